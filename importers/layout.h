@@ -13,7 +13,9 @@
 // inhibitor_nM, enzyme_uM, standard_uM; units M, mM, uM or µM, nM, pM) and are
 // converted to the field's unit. Roles: sample, blank (no enzyme),
 // no-substrate, standard (NADH series; standard_uM gives its concentration),
-// empty. Wells the layout does not name are empty.
+// empty. Wells the layout does not name are empty. A listed well without a
+// role is a standard if it has a standard concentration and no substrate,
+// else a sample. Only non-empty extra cells are kept.
 //
 // A layout that names a well outside the plate, repeats a well, or uses an
 // unknown role, unit or column is rejected with an InputError naming file, line
