@@ -300,7 +300,7 @@ const char* DelimiterName(char delimiter) {
 
 void CellTable::GetRow(std::size_t row, std::vector<std::string_view>* cells) const {
   cells->clear();
-  for (const std::string& cell : rows_[row]) cells->push_back(cell);
+  for (const std::string& cell : rows_[row]) cells->push_back(TrimCell(cell, ','));
 }
 
 }  // namespace ratewell::detail
