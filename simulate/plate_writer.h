@@ -60,6 +60,7 @@
 #include <string>
 #include <vector>
 
+#include "importers/file_io.h"
 #include "importers/plate.h"
 #include "importers/read_plate.h"
 #include "simulate/xlsx_writer.h"
@@ -127,15 +128,6 @@ void WritePlateXlsx(const Plate& plate, const std::string& path, const PlateTabl
                     const std::string& sheet_name,
                     const std::vector<std::string>& protected_inputs = {});
 
-// Writes bytes to path atomically, refusing to replace a protected input, as
-// above. Used for every output file of a simulation.
-void WriteFileAtomically(const std::string& path, std::string_view bytes,
-                         const std::vector<std::string>& protected_inputs = {});
-
-// Throws InputError (naming the input) if path is an existing file that is
-// the same file as one of protected_inputs; otherwise does nothing. Lets a
-// caller check every output name before writing the first one.
-void RefuseToReplaceInput(const std::string& path,
-                          const std::vector<std::string>& protected_inputs);
+// WriteFileAtomically and RefuseToReplaceInput: importers/file_io.h.
 
 }  // namespace ratewell

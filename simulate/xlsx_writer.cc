@@ -1,5 +1,7 @@
 #include "simulate/xlsx_writer.h"
 
+#include "importers/file_io.h"
+
 #include <fcntl.h>
 #include <sys/stat.h>
 #include <unistd.h>
@@ -488,45 +490,13 @@ std::string XlsxBytes(const std::vector<XlsxSheet>& sheets) {
 }
 
 void WriteXlsx(const std::string& path, const std::vector<XlsxSheet>& sheets) {
-  const auto fail = [&](const std::string& reason) {
-    throw std::runtime_error("cannot write workbook " + path + ": " + reason);
-  };
   std::string bytes;
   try {
     bytes = XlsxBytes(sheets);
   } catch (const std::runtime_error& error) {
-    fail(error.what());
+    throw std::runtime_error("cannot write workbook " + path + ": " + error.what());
   }
-
-  // A new file beside the target, so the rename stays within one file system.
-  static std::atomic<unsigned> counter{0};
-  std::string temp;
-  int fd = -1;
-  for (int attempt = 0; attempt < 100 && fd < 0; ++attempt) {
-    temp = path + ".tmp-" + std::to_string(::getpid()) + "-" + std::to_string(counter++);
-    fd = ::open(temp.c_str(), O_WRONLY | O_CREAT | O_EXCL | O_CLOEXEC, 0666);
-    if (fd < 0 && errno != EEXIST) break;
-  }
-  if (fd < 0) {
-    fail(std::string("cannot create a temporary file beside it: ") + std::strerror(errno));
-  }
-  const auto fail_and_remove = [&](const char* what) {
-    const int saved = errno;
-    if (fd >= 0) ::close(fd);
-    ::unlink(temp.c_str());
-    fail(std::string(what) + ": " + std::strerror(saved));
-  };
-  for (std::size_t written = 0; written < bytes.size();) {
-    const ssize_t n = ::write(fd, bytes.data() + written, bytes.size() - written);
-    if (n < 0 && errno == EINTR) continue;
-    if (n < 0) fail_and_remove("cannot write the temporary file");
-    written += static_cast<std::size_t>(n);
-  }
-  if (::fsync(fd) != 0) fail_and_remove("cannot flush the temporary file to disk");
-  const int closed = ::close(fd);
-  fd = -1;
-  if (closed != 0) fail_and_remove("cannot close the temporary file");
-  if (::rename(temp.c_str(), path.c_str()) != 0) fail_and_remove("cannot rename the temporary file");
+  WriteFileAtomically(path, bytes);
 }
 
 }  // namespace ratewell
