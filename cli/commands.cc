@@ -2,8 +2,13 @@
 
 #include <CLI/CLI.hpp>
 
+#include <unistd.h>
+
+#include <algorithm>
 #include <cmath>
 #include <exception>
+#include <filesystem>
+#include <set>
 #include <iomanip>
 #include <iostream>
 #include <nlohmann/json.hpp>
@@ -11,8 +16,13 @@
 #include <string>
 #include <vector>
 
+#include "fitting/analysis.h"
+#include "importers/file_io.h"
 #include "importers/input_error.h"
 #include "importers/read_plate.h"
+#include "report/files.h"
+#include "report/results.h"
+#include "simulate/simulator.h"
 
 namespace ratewell::cli {
 namespace {
@@ -121,6 +131,79 @@ void PrintInspect(const Plate& plate, std::ostream& out) {
   }
 }
 
+// A one-line progress bar on a terminal; silent when err is not a terminal.
+class ProgressBar {
+ public:
+  explicit ProgressBar(std::ostream& err, bool enabled) : err_(err), enabled_(enabled) {}
+  ~ProgressBar() { Finish(); }
+  void Update(double fraction, const std::string& what) {
+    if (!enabled_) return;
+    constexpr int kWidth = 30;
+    const int filled = static_cast<int>(std::lround(std::clamp(fraction, 0.0, 1.0) * kWidth));
+    std::string label = what.size() > 40 ? "..." + what.substr(what.size() - 37) : what;
+    err_ << "\r[" << std::string(static_cast<std::size_t>(filled), '#')
+         << std::string(static_cast<std::size_t>(kWidth - filled), ' ') << "] " << std::setw(3)
+         << static_cast<int>(std::lround(fraction * 100)) << "% " << std::left << std::setw(40) << label
+         << std::right << std::flush;
+    shown_ = true;
+  }
+  void Finish() {
+    if (shown_) err_ << "\n" << std::flush;
+    shown_ = false;
+  }
+
+ private:
+  std::ostream& err_;
+  bool enabled_;
+  bool shown_ = false;
+};
+
+bool IsTerminal(const std::ostream& err) { return &err == &std::cerr && isatty(STDERR_FILENO) == 1; }
+
+namespace fs = std::filesystem;
+
+// The output folder: --out, or a new folder named after the first plate in
+// the current directory. Refuses a folder that holds an input file, so that
+// nothing is ever written beside or over an input.
+fs::path ChooseOutputFolder(const std::string& requested, const std::vector<std::string>& inputs) {
+  fs::path out;
+  if (!requested.empty()) {
+    out = requested;
+  } else {
+    const std::string stem = fs::path(inputs.front()).stem().string();
+    out = fs::current_path() / (stem + "-results");
+    for (int k = 2; fs::exists(out); ++k) out = fs::current_path() / (stem + "-results-" + std::to_string(k));
+  }
+  std::error_code ec;
+  const fs::path out_abs = fs::weakly_canonical(fs::absolute(out), ec);
+  for (const std::string& input : inputs) {
+    if (input.empty()) continue;
+    const fs::path parent = fs::weakly_canonical(fs::absolute(input), ec).parent_path();
+    if (!ec && parent == out_abs) {
+      throw InputError(requested, 0, 0,
+                       "the output folder holds the input file " + input +
+                           "; expected a separate folder so that no input is overwritten or "
+                           "joined by outputs");
+    }
+  }
+  return out;
+}
+
+std::set<std::string> ParseOutputs(const std::string& list) {
+  std::set<std::string> outputs;
+  std::stringstream s(list);
+  std::string item;
+  while (std::getline(s, item, ',')) {
+    if (item.empty()) continue;
+    if (item != "json" && item != "csv") {
+      throw InputError("--outputs", 0, 0, "unknown output '" + item + "'; expected json or csv");
+    }
+    outputs.insert(item);
+  }
+  if (outputs.empty()) throw InputError("--outputs", 0, 0, "no output named; expected json, csv or both");
+  return outputs;
+}
+
 }  // namespace
 
 int Run(int argc, const char* const* argv, std::ostream& out, std::ostream& err) {
@@ -140,6 +223,31 @@ int Run(int argc, const char* const* argv, std::ostream& out, std::ostream& err)
   inspect->add_flag("--json", inspect_json, "Print one JSON object instead of text");
   AddReadFlags(inspect, &inspect_flags);
 
+  // simulate
+  CLI::App* simulate = app.add_subcommand(
+      "simulate", "Write synthetic coupled-assay plates with known truth from a scenario file");
+  std::string scenario_path;
+  std::string simulate_out;
+  simulate->add_option("--scenario", scenario_path, "Scenario file (JSON)")->required();
+  simulate->add_option("--out", simulate_out, "Output folder (created if missing)")->required();
+
+  // analyze
+  CLI::App* analyze = app.add_subcommand(
+      "analyze", "Initial rates (and, as the project grows, kinetic fits) from plate files");
+  AnalysisRequest request;
+  ReadFlags analyze_flags;
+  std::string out_dir;
+  std::string outputs_list = "json,csv";
+  analyze->add_option("PLATE_FILE", request.plate_paths, "Plate-reader exports of one experiment")
+      ->required();
+  analyze->add_option("--layout", request.layout_path, "Layout CSV: what is in each well")->required();
+  analyze->add_option("--assay", request.assay_path, "ASSAY.json settings (default: built-in defaults)");
+  analyze->add_option("--out", out_dir,
+                      "Output folder (default: a new folder named after the first plate, in the "
+                      "current directory)");
+  analyze->add_option("--outputs", outputs_list, "Which outputs to write: json, csv (comma separated)");
+  AddReadFlags(analyze, &analyze_flags);
+
   try {
     app.parse(argc, argv);
   } catch (const CLI::ParseError& e) {
@@ -157,6 +265,48 @@ int Run(int argc, const char* const* argv, std::ostream& out, std::ostream& err)
         PrintInspect(plate, out);
       }
       return kExitOk;
+    }
+    if (simulate->parsed()) {
+      ProgressBar bar(err, IsTerminal(err));
+      const SimulationOutput result = RunScenarioFile(
+          scenario_path, simulate_out, [&](double f) { bar.Update(f, "simulating " + scenario_path); });
+      bar.Finish();
+      out << "ratewell simulate: " << result.run << ": " << result.wells_used << " wells, "
+          << result.reads << " reads, " << result.channels << " wavelength(s)";
+      if (result.saturated_points > 0) out << ", " << result.saturated_points << " saturated points";
+      out << "\n";
+      for (const std::string& f : result.files_written) out << "  wrote " << f << "\n";
+      return kExitOk;
+    }
+    if (analyze->parsed()) {
+      request.read_options = ToReadOptions(analyze_flags);
+      const std::set<std::string> outputs = ParseOutputs(outputs_list);
+      std::vector<std::string> inputs = request.plate_paths;
+      inputs.push_back(request.layout_path);
+      if (!request.assay_path.empty()) inputs.push_back(request.assay_path);
+      const fs::path folder = ChooseOutputFolder(out_dir, inputs);
+      ProgressBar bar(err, IsTerminal(err));
+      const Analysis analysis =
+          RunAnalysis(request, [&](double f, const std::string& what) { bar.Update(f, what); });
+      bar.Finish();
+      fs::create_directories(folder);
+      if (outputs.count("json")) {
+        WriteFileAtomically((folder / "results.json").string(), ResultsJson(analysis).dump(2) + "\n");
+      }
+      if (outputs.count("csv")) {
+        WriteFileAtomically((folder / "rates.csv").string(), RatesCsv(analysis));
+      }
+      const int usable = analysis.UsableSampleWells();
+      const int failed = analysis.FailedSampleWells();
+      out << "ratewell analyze: " << analysis.plates.size() << " plate(s), " << usable
+          << " sample wells with a rate";
+      if (failed > 0) out << ", " << failed << " without (see flags)";
+      out << "\n";
+      for (const std::string& w : analysis.warnings) out << "  warning: " << w << "\n";
+      out << "results in " << folder.string() << "\n";
+      out << "Results support, and do not replace, the lab's approved procedures and a qualified "
+             "reviewer.\n";
+      return failed > 0 || usable == 0 ? kExitNeedsReview : kExitOk;
     }
   } catch (const InputError& e) {
     err << "ratewell: " << e.what() << "\n";
