@@ -300,8 +300,16 @@ int Run(int argc, const char* const* argv, std::ostream& out, std::ostream& err)
       const int failed = analysis.FailedSampleWells();
       out << "ratewell analyze: " << analysis.plates.size() << " plate(s), " << usable
           << " sample wells with a rate";
-      if (failed > 0) out << ", " << failed << " without (see flags)";
+      if (failed > 0) out << ", " << failed << " without";
       out << "\n";
+      int listed = 0;
+      for (const PlateRates& plate : analysis.plate_rates) {
+        for (const WellRate& w : plate.wells) {
+          if (w.role != WellRole::kSample || w.HasRate()) continue;
+          if (++listed > 8) break;
+          out << "  no rate: " << w.name << " (" << plate.plate << "): " << w.estimate.message << "\n";
+        }
+      }
       for (const std::string& w : analysis.warnings) out << "  warning: " << w << "\n";
       out << "results in " << folder.string() << "\n";
       out << "Results support, and do not replace, the lab's approved procedures and a qualified "

@@ -131,7 +131,13 @@ PathlengthResult UniformResult(const AssaySettings& settings, const Plate& plate
   return result;
 }
 
-PathlengthResult WaterPeak(const AssaySettings& settings, const Plate& plate) {
+PathlengthResult WaterPeak(const AssaySettings& settings, const Plate& plate,
+                           const Layout* layout) {
+  // Wells the layout calls empty hold no liquid: no pathlength to warn about.
+  const auto in_use = [&](int well) {
+    return layout == nullptr || layout->wells.size() != static_cast<std::size_t>(plate.geometry.num_wells()) ||
+           layout->at(well).role != WellRole::kEmpty;
+  };
   const auto& p = settings.pathlength;
   const int sample = RequireChannel(plate, p.sample_nm, "the water-peak pathlength (sample_nm)");
   const int reference =
@@ -145,6 +151,7 @@ PathlengthResult WaterPeak(const AssaySettings& settings, const Plate& plate) {
   result.flag_per_well.assign(static_cast<std::size_t>(wells), PathlengthFlag::kNone);
 
   std::vector<int> wells_without_reads;
+  std::vector<int> wells_out_of_range;
   for (int well = 0; well < wells; ++well) {
     const ValidStats a_sample = StatsOfValid(plate.at(sample, well));
     const ValidStats a_reference = StatsOfValid(plate.at(reference, well));
@@ -152,7 +159,7 @@ PathlengthResult WaterPeak(const AssaySettings& settings, const Plate& plate) {
     if (a_sample.n == 0 || a_reference.n == 0) {
       result.flag_per_well[index] = PathlengthFlag::kNoValidReads;
       // An unused well (no data anywhere) is not worth a warning.
-      if (WellHasAnyValidPoint(plate, well)) wells_without_reads.push_back(well);
+      if (WellHasAnyValidPoint(plate, well) && in_use(well)) wells_without_reads.push_back(well);
       continue;
     }
     const double cm = WaterPeakPathlengthCm(a_sample.mean, a_reference.mean, p.k_per_cm);
@@ -164,13 +171,18 @@ PathlengthResult WaterPeak(const AssaySettings& settings, const Plate& plate) {
             : 0.0;
     if (!IsPlausible(cm)) {
       result.flag_per_well[index] = PathlengthFlag::kOutOfRange;
-      result.warnings.push_back("well " + WellName(well, plate.geometry) +
-                                ": water-peak pathlength " + FormatNumber(cm) +
-                                " cm is outside " + PlausibleRangeText() + " (A" +
-                                FormatNumber(p.sample_nm) + " - A" +
-                                FormatNumber(p.reference_nm) + " = " +
-                                FormatNumber(a_sample.mean - a_reference.mean) + ")");
+      if (in_use(well)) wells_out_of_range.push_back(well);
     }
+  }
+  if (wells_out_of_range.size() == 1) {
+    const int well = wells_out_of_range.front();
+    result.warnings.push_back("well " + WellName(well, plate.geometry) + ": water-peak pathlength " +
+                              FormatNumber(result.cm_per_well[static_cast<std::size_t>(well)]) +
+                              " cm is outside " + PlausibleRangeText());
+  } else if (!wells_out_of_range.empty()) {
+    result.warnings.push_back("water-peak pathlength outside " + PlausibleRangeText() + " in " +
+                              std::to_string(wells_out_of_range.size()) +
+                              " wells: " + NameWells(wells_out_of_range, plate.geometry));
   }
   if (!wells_without_reads.empty()) {
     result.warnings.push_back(
@@ -373,7 +385,7 @@ PathlengthResult ComputePathlength(const AssaySettings& settings, const Plate& p
       return result;
     }
     case PathlengthMode::kWaterPeak:
-      return WaterPeak(settings, plate);
+      return WaterPeak(settings, plate, layout);
     case PathlengthMode::kStandards:
       return Standards(settings, plate, layout);
   }

@@ -223,7 +223,7 @@ PlateRates ComputePlateRates(const Plate& plate, const Layout& layout, const Ass
         }
         if (it->second.wells > 0) {
           b = it->second;
-        } else if (!warned_fallback) {
+        } else if (!warned_fallback && w.role == WellRole::kSample) {
           out.warnings.push_back(
               "matched blank subtraction: some substrate levels have no blank well; the plate "
               "mean of the blanks was used for them");
