@@ -9,34 +9,21 @@
 #include <vector>
 
 #include "cli/commands.h"
+#include "tests/cli/run_cli.h"
 
 namespace ratewell::cli {
 namespace {
 
 namespace fs = std::filesystem;
 
-const fs::path kDemo = fs::path(RATEWELL_TEST_DATA_DIR).parent_path().parent_path() / "demo-plates";
-
-struct Outcome {
-  int status;
-  std::string out;
-  std::string err;
-};
-
-Outcome RunCli(const std::vector<std::string>& args) {
-  std::vector<const char*> argv = {"ratewell"};
-  for (const std::string& a : args) argv.push_back(a.c_str());
-  std::ostringstream out;
-  std::ostringstream err;
-  const int status = cli::Run(static_cast<int>(argv.size()), argv.data(), out, err);
-  return {status, out.str(), err.str()};
-}
+using testing::RunCli;
+using testing::Outcome;
 
 fs::path CopyExperiment(const std::string& name) {
   const fs::path to = fs::temp_directory_path() / ("ratewell-analyze-test-" + name);
   fs::remove_all(to);
   fs::create_directories(to);
-  for (const auto& entry : fs::directory_iterator(kDemo / "mut7-mutase")) {
+  for (const auto& entry : fs::directory_iterator(testing::DemoFolder() / "mut7-mutase")) {
     fs::copy_file(entry.path(), to / entry.path().filename());
   }
   return to;

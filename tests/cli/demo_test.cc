@@ -12,13 +12,13 @@
 #include <vector>
 
 #include "cli/commands.h"
+#include "tests/cli/run_cli.h"
 
 namespace ratewell::cli {
 namespace {
 
 namespace fs = std::filesystem;
 
-const fs::path kDemo = fs::path(RATEWELL_TEST_DATA_DIR).parent_path().parent_path() / "demo-plates";
 
 nlohmann::json ReadJson(const fs::path& path) {
   std::ifstream in(path);
@@ -30,23 +30,20 @@ struct DemoCase {
   std::string plate_file;
 };
 
+void PrintTo(const DemoCase& c, std::ostream* os) { *os << c.experiment << "/" << c.plate_file; }
+
 class DemoAnalysis : public ::testing::TestWithParam<DemoCase> {};
 
 TEST_P(DemoAnalysis, RecoversTheSimulatedInitialRates) {
   const DemoCase& c = GetParam();
-  const fs::path folder = kDemo / c.experiment;
+  const fs::path folder = testing::DemoFolder() / c.experiment;
   const fs::path out = fs::temp_directory_path() / ("ratewell-demo-test-" + c.experiment);
   fs::remove_all(out);
-  const std::vector<std::string> args = {"ratewell", "analyze", (folder / c.plate_file).string(),
-                                         "--layout", (folder / "layout.csv").string(),
-                                         "--assay", (folder / "ASSAY.json").string(),
-                                         "--out", out.string()};
-  std::vector<const char*> argv;
-  for (const std::string& a : args) argv.push_back(a.c_str());
-  std::ostringstream sout;
-  std::ostringstream serr;
-  const int status = cli::Run(static_cast<int>(argv.size()), argv.data(), sout, serr);
-  ASSERT_LE(status, kExitNeedsReview) << serr.str();
+  const testing::Outcome r = testing::RunCli(
+      {"analyze", (folder / c.plate_file).string(), "--layout", (folder / "layout.csv").string(),
+       "--assay", (folder / "ASSAY.json").string(), "--out", out.string()});
+  const int status = r.status;
+  ASSERT_LE(status, kExitNeedsReview) << r.err;
 
   const nlohmann::json results = ReadJson(out / "results.json");
   const nlohmann::json truth = ReadJson(folder / "truth.json");

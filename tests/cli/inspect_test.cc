@@ -9,27 +9,15 @@
 #include <vector>
 
 #include "cli/commands.h"
+#include "tests/cli/run_cli.h"
 
 namespace ratewell::cli {
 namespace {
 
 namespace fs = std::filesystem;
 
-struct Outcome {
-  int status;
-  std::string out;
-  std::string err;
-};
-
-Outcome RunCli(std::vector<std::string> args) {
-  args.insert(args.begin(), "ratewell");
-  std::vector<const char*> argv;
-  for (const std::string& a : args) argv.push_back(a.c_str());
-  std::ostringstream out;
-  std::ostringstream err;
-  const int status = Run(static_cast<int>(argv.size()), argv.data(), out, err);
-  return {status, out.str(), err.str()};
-}
+using testing::Outcome;
+using testing::RunCli;
 
 std::string DataFile(const std::string& name) {
   return std::string(RATEWELL_TEST_DATA_DIR) + "/" + name;
@@ -72,7 +60,7 @@ TEST(Inspect, ExitsWithStatusTwoForAMissingFileOrUnknownOption) {
   EXPECT_EQ(RunCli({"inspect", "/nonexistent/plate.csv"}).status, kExitBadInput);
   EXPECT_EQ(RunCli({"inspect", DataFile("plates/grid_cycles.csv"), "--table", "diagonal"}).status,
             kExitBadInput);
-  EXPECT_EQ(RunCli({}).status, kExitBadInput);
+  EXPECT_EQ(RunCli(std::vector<std::string>{}).status, kExitBadInput);
 }
 
 TEST(Inspect, HonoursAnExplicitTableLayout) {
