@@ -144,7 +144,9 @@ PlateRates ComputePlateRates(const Plate& plate, const Layout& layout, const Ass
       RateInput input;
       input.series = &plate.at(channel, well);
       input.product_uM_per_A = ProductMicromolarPerAbsorbance(settings.detection, w.pathlength_cm);
-      input.substrate_uM = info.role == WellRole::kNoSubstrate ? 0.0 : info.substrate_uM;
+      // No-substrate and standard wells hold no substrate: nothing to deplete.
+      const bool no_substrate = info.role == WellRole::kNoSubstrate || info.role == WellRole::kStandard;
+      input.substrate_uM = no_substrate ? 0.0 : info.substrate_uM;
       w.estimate = EstimateInitialRate(input, options);
     } else {
       w.estimate.ok = false;
@@ -177,7 +179,7 @@ PlateRates ComputePlateRates(const Plate& plate, const Layout& layout, const Ass
         RateInput input;
         input.series = &plate.at(channel, w.well);
         input.product_uM_per_A = ProductMicromolarPerAbsorbance(settings.detection, w.pathlength_cm);
-        input.substrate_uM = w.role == WellRole::kNoSubstrate ? 0.0 : w.substrate_uM;
+        input.substrate_uM = w.role == WellRole::kNoSubstrate ? 0.0 : w.substrate_uM;  // samples and no-substrate only
         input.coupling_tau_min = tau;
         w.estimate = EstimateInitialRate(input, options);
         std::vector<std::string> kept;
