@@ -151,29 +151,12 @@ std::string FormatNumber(double value) {
   return buffer;
 }
 
-// Edit distance (case-insensitive) for "did you mean" hints.
-int EditDistance(std::string_view a, std::string_view b) {
-  std::vector<int> previous(b.size() + 1);
-  std::vector<int> current(b.size() + 1);
-  for (std::size_t j = 0; j <= b.size(); ++j) previous[j] = static_cast<int>(j);
-  for (std::size_t i = 1; i <= a.size(); ++i) {
-    current[0] = static_cast<int>(i);
-    for (std::size_t j = 1; j <= b.size(); ++j) {
-      const bool same = std::tolower(static_cast<unsigned char>(a[i - 1])) ==
-                        std::tolower(static_cast<unsigned char>(b[j - 1]));
-      current[j] = std::min({previous[j] + 1, current[j - 1] + 1,
-                             previous[j - 1] + (same ? 0 : 1)});
-    }
-    std::swap(previous, current);
-  }
-  return previous[b.size()];
-}
 
 std::string DidYouMean(std::string_view key, const std::vector<std::string>& allowed) {
   int best_distance = 3;  // suggest only near misses
   std::string best;
   for (const std::string& candidate : allowed) {
-    const int distance = EditDistance(key, candidate);
+    const int distance = EditDistanceIgnoreCase(key, candidate);
     if (distance < best_distance) {
       best_distance = distance;
       best = candidate;

@@ -1,5 +1,9 @@
 #include "importers/input_error.h"
 
+#include <algorithm>
+#include <cctype>
+#include <vector>
+
 namespace ratewell {
 namespace {
 
@@ -22,5 +26,21 @@ InputError::InputError(std::string file, int line, int column, std::string reaso
       line_(line),
       column_(column),
       reason_(std::move(reason)) {}
+
+int EditDistanceIgnoreCase(std::string_view a, std::string_view b) {
+  std::vector<int> previous(b.size() + 1);
+  std::vector<int> current(b.size() + 1);
+  for (std::size_t j = 0; j <= b.size(); ++j) previous[j] = static_cast<int>(j);
+  for (std::size_t i = 1; i <= a.size(); ++i) {
+    current[0] = static_cast<int>(i);
+    for (std::size_t j = 1; j <= b.size(); ++j) {
+      const bool same = std::tolower(static_cast<unsigned char>(a[i - 1])) ==
+                        std::tolower(static_cast<unsigned char>(b[j - 1]));
+      current[j] = std::min({previous[j] + 1, current[j - 1] + 1, previous[j - 1] + (same ? 0 : 1)});
+    }
+    std::swap(previous, current);
+  }
+  return previous[b.size()];
+}
 
 }  // namespace ratewell

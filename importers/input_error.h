@@ -10,6 +10,7 @@
 
 #include <stdexcept>
 #include <string>
+#include <string_view>
 
 namespace ratewell {
 
@@ -28,5 +29,9 @@ class InputError : public std::runtime_error {
   int column_;
   std::string reason_;
 };
+
+// Levenshtein distance ignoring ASCII case, for "did you mean" hints when a
+// file misspells a key.
+int EditDistanceIgnoreCase(std::string_view a, std::string_view b);
 
 }  // namespace ratewell

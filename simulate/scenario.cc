@@ -64,22 +64,6 @@ std::string FormatValue(double value) {
   return buffer;
 }
 
-int EditDistance(std::string_view a, std::string_view b) {
-  std::vector<int> previous(b.size() + 1);
-  std::vector<int> current(b.size() + 1);
-  for (std::size_t j = 0; j <= b.size(); ++j) previous[j] = static_cast<int>(j);
-  for (std::size_t i = 1; i <= a.size(); ++i) {
-    current[0] = static_cast<int>(i);
-    for (std::size_t j = 1; j <= b.size(); ++j) {
-      const bool same = std::tolower(static_cast<unsigned char>(a[i - 1])) ==
-                        std::tolower(static_cast<unsigned char>(b[j - 1]));
-      current[j] =
-          std::min({previous[j] + 1, current[j - 1] + 1, previous[j - 1] + (same ? 0 : 1)});
-    }
-    std::swap(previous, current);
-  }
-  return previous[b.size()];
-}
 
 // JSON pointer -> "kinetics.ki_uM", "files[2].format".
 std::string KeyPathOf(const std::string& pointer) {
@@ -223,7 +207,7 @@ class ScenarioReader {
       std::string hint;
       int best = 3;
       for (const std::string& candidate : allowed) {
-        const int distance = EditDistance(item.key(), candidate);
+        const int distance = EditDistanceIgnoreCase(item.key(), candidate);
         if (distance < best) {
           best = distance;
           hint = " (did you mean \"" + candidate + "\"?)";

@@ -1,6 +1,7 @@
 #include "importers/detail/cells.h"
 
 #include <algorithm>
+#include <cctype>
 #include <array>
 #include <charconv>
 #include <cmath>

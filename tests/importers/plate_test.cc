@@ -131,5 +131,13 @@ TEST(DetectDelimiter, PrefersTheSeparatorThatSplitsRowsConsistently) {
   EXPECT_EQ(detail::DetectDelimiter("Reader: X, Y; Z\nWell,Time,A\nA1,0,1\nA1,1,1\n"), ',');
 }
 
+// Levenshtein distance: "kitten" -> "sitting" is 3, the textbook example.
+TEST(EditDistanceIgnoreCase, CountsEditsAndIgnoresCase) {
+  EXPECT_EQ(EditDistanceIgnoreCase("kitten", "sitting"), 3);
+  EXPECT_EQ(EditDistanceIgnoreCase("Km_uM", "km_um"), 0);
+  EXPECT_EQ(EditDistanceIgnoreCase("", "abc"), 3);
+  EXPECT_EQ(EditDistanceIgnoreCase("epsilon", "epsilom"), 1);
+}
+
 }  // namespace
 }  // namespace ratewell
