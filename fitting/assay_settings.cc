@@ -99,12 +99,27 @@ std::string ListNames(const Table& table) {
 // Keys allowed in each object.
 
 const std::vector<std::string> kTopKeys = {
-    "detection", "pathlength", "enzyme", "rate", "blank",
+    "detection", "pathlength", "enzyme", "rate", "fit", "blank",
     "absorbance_ceiling", "max_substrate_consumed"};
 const std::vector<std::string> kDetectionKeys = {
     "species", "wavelength_nm", "epsilon_per_M_cm", "direction", "per_turnover"};
 const std::vector<std::string> kEnzymeKeys = {"nM", "mg_per_mL", "molar_mass_Da"};
 const std::vector<std::string> kRateKeys = {"method", "window_min"};
+const std::vector<std::string> kFitKeys = {"model", "weighting", "loss", "loss_scale", "interval",
+                                           "confidence_level", "bootstrap", "cheng_prusoff"};
+const std::vector<std::string> kBootstrapKeys = {"resamples", "scheme", "seed"};
+const std::vector<std::string> kChengPrusoffKeys = {"mode", "substrate_uM", "km_uM", "km_se_uM"};
+
+// Every model id, quoted, for messages.
+std::string ListModelIds() {
+  std::string list = "\"auto\"";
+  for (KineticModel m : AllKineticModels()) {
+    list += ", \"";
+    list += KineticModelToString(m);
+    list += '"';
+  }
+  return list;
+}
 
 const std::vector<std::string>& PathlengthKeysFor(PathlengthMode mode) {
   static const std::vector<std::string> kFixed = {"mode", "cm"};
@@ -296,6 +311,52 @@ std::optional<Problem> FindProblem(const AssaySettings& s) {
     }
   }
 
+  const AssaySettings::Fit& f = s.fit;
+  KineticModel model_value;
+  if (f.model != "auto" && !StringToKineticModel(f.model, &model_value)) {
+    return Problem{{"fit", "model"},
+                   "unknown model \"" + f.model + "\"; expected one of " + ListModelIds()};
+  }
+  if (!IsPositiveFinite(f.loss_scale)) {
+    return Problem{{"fit", "loss_scale"},
+                   "expected a positive scale of the weighted residual, got " +
+                       FormatNumber(f.loss_scale)};
+  }
+  if (!std::isfinite(f.confidence_level) || !(f.confidence_level > 0.5) ||
+      !(f.confidence_level < 1.0)) {
+    return Problem{{"fit", "confidence_level"},
+                   "expected a coverage between 0.5 and 1 (exclusive), e.g. 0.95, got " +
+                       FormatNumber(f.confidence_level)};
+  }
+  if (f.bootstrap_resamples < 100 || f.bootstrap_resamples > 100000) {
+    return Problem{{"fit", "bootstrap", "resamples"},
+                   "expected a whole number of resamples from 100 to 100000, got " +
+                       std::to_string(f.bootstrap_resamples)};
+  }
+  if (f.cheng_prusoff_mode.has_value()) {
+    const KineticModel m = *f.cheng_prusoff_mode;
+    if (m != KineticModel::kCompetitive && m != KineticModel::kUncompetitive &&
+        m != KineticModel::kNoncompetitive) {
+      return Problem{{"fit", "cheng_prusoff", "mode"},
+                     "expected \"competitive\", \"uncompetitive\" or \"noncompetitive\""};
+    }
+    if (!IsPositiveFinite(f.cheng_prusoff_substrate_uM)) {
+      return Problem{{"fit", "cheng_prusoff", "substrate_uM"},
+                     "expected the positive substrate concentration of the dose-response series in "
+                     "µM, got " + FormatNumber(f.cheng_prusoff_substrate_uM)};
+    }
+    if (!IsPositiveFinite(f.cheng_prusoff_km_uM)) {
+      return Problem{{"fit", "cheng_prusoff", "km_uM"},
+                     "expected the positive Km in µM, got " + FormatNumber(f.cheng_prusoff_km_uM)};
+    }
+    if (f.cheng_prusoff_km_se_uM.has_value() &&
+        (!std::isfinite(*f.cheng_prusoff_km_se_uM) || *f.cheng_prusoff_km_se_uM < 0.0)) {
+      return Problem{{"fit", "cheng_prusoff", "km_se_uM"},
+                     "expected a standard error >= 0 in µM, got " +
+                         FormatNumber(*f.cheng_prusoff_km_se_uM)};
+    }
+  }
+
   if (!IsPositiveFinite(s.absorbance_ceiling)) {
     return Problem{{"absorbance_ceiling"},
                    "expected a positive absorbance, got " + FormatNumber(s.absorbance_ceiling)};
@@ -422,6 +483,9 @@ class SettingsReader {
     }
     if (const Json* rate = Member(root, "rate")) {
       ReadRate(*rate, &settings.rate);
+    }
+    if (const Json* fit = Member(root, "fit")) {
+      ReadFit(*fit, &settings.fit);
     }
     if (const Json* blank = Member(root, "blank")) {
       const std::string name = String(*blank, {"blank"});
@@ -664,6 +728,96 @@ class SettingsReader {
     }
   }
 
+  void ReadFit(const Json& object, AssaySettings::Fit* fit) const {
+    const KeyPath path = {"fit"};
+    RequireObject(object, path);
+    CheckKeys(object, path, kFitKeys);
+    if (const Json* v = Member(object, "model")) fit->model = String(*v, {"fit", "model"});
+    if (const Json* v = Member(object, "weighting")) {
+      const std::string name = String(*v, {"fit", "weighting"});
+      if (!StringToWeighting(name, &fit->weighting)) {
+        Fail({"fit", "weighting"}, "unknown weighting \"" + name +
+                                       "\"; expected \"none\", \"relative\" or \"inverse-variance\"");
+      }
+    }
+    if (const Json* v = Member(object, "loss")) {
+      const std::string name = String(*v, {"fit", "loss"});
+      if (!StringToRobustLoss(name, &fit->loss)) {
+        Fail({"fit", "loss"},
+             "unknown loss \"" + name + "\"; expected \"none\", \"huber\" or \"cauchy\"");
+      }
+    }
+    if (const Json* v = Member(object, "loss_scale")) {
+      fit->loss_scale = Number(*v, {"fit", "loss_scale"});
+    }
+    if (const Json* v = Member(object, "interval")) {
+      const std::string name = String(*v, {"fit", "interval"});
+      if (!StringToIntervalMethod(name, &fit->interval)) {
+        Fail({"fit", "interval"}, "unknown interval method \"" + name +
+                                      "\"; expected \"asymptotic\", \"profile\" or \"bootstrap\"");
+      }
+    }
+    if (const Json* v = Member(object, "confidence_level")) {
+      fit->confidence_level = Number(*v, {"fit", "confidence_level"});
+    }
+    if (const Json* v = Member(object, "bootstrap")) {
+      const KeyPath bootstrap_path = {"fit", "bootstrap"};
+      RequireObject(*v, bootstrap_path);
+      CheckKeys(*v, bootstrap_path, kBootstrapKeys);
+      if (const Json* r = Member(*v, "resamples")) {
+        fit->bootstrap_resamples = static_cast<int>(
+            WholeNumber(*r, {"fit", "bootstrap", "resamples"}, 0.0, 1e9));
+      }
+      if (const Json* r = Member(*v, "scheme")) {
+        const std::string name = String(*r, {"fit", "bootstrap", "scheme"});
+        if (!StringToBootstrapScheme(name, &fit->bootstrap_scheme)) {
+          Fail({"fit", "bootstrap", "scheme"},
+               "unknown scheme \"" + name + "\"; expected \"residuals\" or \"cases\"");
+        }
+      }
+      if (const Json* r = Member(*v, "seed")) {
+        fit->bootstrap_seed = static_cast<std::uint64_t>(
+            WholeNumber(*r, {"fit", "bootstrap", "seed"}, 0.0, 9007199254740992.0));
+      }
+    }
+    if (const Json* v = Member(object, "cheng_prusoff")) {
+      const KeyPath cp_path = {"fit", "cheng_prusoff"};
+      if (v->is_null()) return;  // none, as written by AssaySettingsToJson
+      RequireObject(*v, cp_path);
+      CheckKeys(*v, cp_path, kChengPrusoffKeys);
+      for (const char* key : {"mode", "substrate_uM", "km_uM"}) {
+        if (!Member(*v, key)) {
+          Fail(cp_path, std::string("missing \"") + key +
+                            "\"; Cheng-Prusoff needs mode, substrate_uM and km_uM");
+        }
+      }
+      const std::string mode = String(*Member(*v, "mode"), {"fit", "cheng_prusoff", "mode"});
+      KineticModel model;
+      if (!StringToKineticModel(mode, &model)) {
+        Fail({"fit", "cheng_prusoff", "mode"},
+             "unknown mode \"" + mode +
+                 "\"; expected \"competitive\", \"uncompetitive\" or \"noncompetitive\"");
+      }
+      fit->cheng_prusoff_mode = model;
+      fit->cheng_prusoff_substrate_uM =
+          Number(*Member(*v, "substrate_uM"), {"fit", "cheng_prusoff", "substrate_uM"});
+      fit->cheng_prusoff_km_uM = Number(*Member(*v, "km_uM"), {"fit", "cheng_prusoff", "km_uM"});
+      if (const Json* r = Member(*v, "km_se_uM")) {
+        fit->cheng_prusoff_km_se_uM = Number(*r, {"fit", "cheng_prusoff", "km_se_uM"});
+      }
+    }
+  }
+
+  // A whole number in [lo, hi].
+  double WholeNumber(const Json& value, const KeyPath& path, double lo, double hi) const {
+    const double number = Number(value, path);
+    if (number != std::floor(number) || number < lo || number > hi) {
+      Fail(path, "expected a whole number from " + FormatNumber(lo) + " to " + FormatNumber(hi) +
+                     ", got " + FormatNumber(number));
+    }
+    return number;
+  }
+
   std::string_view text_;
   const std::string& file_;
 };
@@ -794,6 +948,27 @@ nlohmann::json AssaySettingsToJson(const AssaySettings& settings) {
     rate["window_min"] = nullptr;
   }
   json["rate"] = rate;
+
+  const AssaySettings::Fit& f = settings.fit;
+  Json fit = {{"model", f.model},
+              {"weighting", WeightingToString(f.weighting)},
+              {"loss", RobustLossToString(f.loss)},
+              {"loss_scale", f.loss_scale},
+              {"interval", IntervalMethodToString(f.interval)},
+              {"confidence_level", f.confidence_level},
+              {"bootstrap", {{"resamples", f.bootstrap_resamples},
+                             {"scheme", BootstrapSchemeToString(f.bootstrap_scheme)},
+                             {"seed", f.bootstrap_seed}}}};
+  if (f.cheng_prusoff_mode.has_value()) {
+    Json cp = {{"mode", KineticModelToString(*f.cheng_prusoff_mode)},
+               {"substrate_uM", f.cheng_prusoff_substrate_uM},
+               {"km_uM", f.cheng_prusoff_km_uM}};
+    if (f.cheng_prusoff_km_se_uM.has_value()) cp["km_se_uM"] = *f.cheng_prusoff_km_se_uM;
+    fit["cheng_prusoff"] = cp;
+  } else {
+    fit["cheng_prusoff"] = nullptr;
+  }
+  json["fit"] = fit;
 
   json["blank"] = BlankModeToString(settings.blank);
   json["absorbance_ceiling"] = settings.absorbance_ceiling;

@@ -44,6 +44,8 @@
 
 #include <nlohmann/json.hpp>
 
+#include "fitting/kinetic_models.h"
+#include "fitting/nonlinear_fit.h"
 #include "fitting/units.h"
 
 namespace ratewell {
@@ -155,10 +157,37 @@ struct AssaySettings {
     bool operator==(const Rate&) const = default;
   };
 
+  // How the kinetic model is fitted to the well rates (fitting/
+  // nonlinear_fit.h and model_selection.h say what each choice means). The
+  // command line's --model and --ci override model and interval.
+  struct Fit {
+    // "auto" (the family the data allow) or a model id of DESIGN §2.
+    std::string model = "auto";
+    Weighting weighting = Weighting::kNone;
+    RobustLoss loss = RobustLoss::kNone;
+    double loss_scale = 1.0;  // > 0, in units of the weighted residual
+    IntervalMethod interval = IntervalMethod::kProfile;
+    double confidence_level = 0.95;  // in (0.5, 1)
+    int bootstrap_resamples = 2000;  // 100 ... 100000
+    BootstrapScheme bootstrap_scheme = BootstrapScheme::kResiduals;
+    std::uint64_t bootstrap_seed = 20240611;
+    // Cheng–Prusoff (1973) Ki from the logistic IC50: the mode the inhibitor
+    // is taken to follow (competitive, uncompetitive or noncompetitive), the
+    // substrate concentration of the dose–response series and the Km (and
+    // its SE) measured separately. All in µM. Unset: no Ki from IC50.
+    std::optional<KineticModel> cheng_prusoff_mode;
+    double cheng_prusoff_substrate_uM = 0.0;
+    double cheng_prusoff_km_uM = 0.0;
+    std::optional<double> cheng_prusoff_km_se_uM;
+
+    bool operator==(const Fit&) const = default;
+  };
+
   Detection detection;
   Pathlength pathlength;
   Enzyme enzyme;
   Rate rate;
+  Fit fit;
   BlankMode blank = BlankMode::kPlateMean;
   // Readings above this absorbance are not used (reader no longer linear;
   // 2.5 is common practice). > 0.

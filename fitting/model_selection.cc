@@ -161,7 +161,7 @@ ModelChoice FitAndChooseModel(const KineticData& data, ModelFamily family,
                                                  alpha));
     return choice.tests.back();
   };
-  const std::string level = "p < " + P(alpha);
+  const std::string level = "at p < " + P(alpha);
 
   if (family == ModelFamily::kSubstrate) {
     using M = KineticModel;

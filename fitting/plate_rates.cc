@@ -60,7 +60,8 @@ void AddFlag(WellRate* w, const std::string& flag) {
 }  // namespace
 
 PlateRates ComputePlateRates(const Plate& plate, const Layout& layout, const AssaySettings& settings,
-                             const std::function<void(int, int)>& progress) {
+                             const std::function<void(int, int)>& progress,
+                             const WellDecisions& decisions) {
   PlateRates out;
   out.plate = plate.report.path;
   const std::string& file = plate.report.path;
@@ -90,6 +91,21 @@ PlateRates ComputePlateRates(const Plate& plate, const Layout& layout, const Ass
   options.window_min = settings.rate.window_min;
   options.absorbance_ceiling = settings.absorbance_ceiling;
   options.max_substrate_consumed = settings.max_substrate_consumed;
+  // The options of one well: the user's window when there is one.
+  const auto options_for = [&](int well) {
+    RateOptions o = options;
+    const auto it = decisions.windows_min.find(well);
+    if (it != decisions.windows_min.end()) o.window_min = it->second;
+    return o;
+  };
+  const auto decide = [&](WellRate* w) {
+    if (decisions.windows_min.count(w->well)) AddFlag(w, "user-window");
+    const auto it = decisions.exclusions.find(w->well);
+    if (it != decisions.exclusions.end()) {
+      w->excluded = true;
+      w->exclusion_reason = it->second;
+    }
+  };
 
   const std::optional<double> settings_enzyme_nM = settings.enzyme.Nanomolar();
   const std::optional<double> settings_mg_per_mL = settings.enzyme.MilligramsPerMillilitre();
@@ -113,6 +129,7 @@ PlateRates ComputePlateRates(const Plate& plate, const Layout& layout, const Ass
 
   const int total = static_cast<int>(todo.size());
   out.wells.reserve(todo.size());
+  std::map<int, RateEstimate> automatic_estimates;  // wells with a user window
   for (int i = 0; i < total; ++i) {
     const int well = todo[static_cast<std::size_t>(i)];
     const WellInfo& info = layout.at(well);
@@ -136,6 +153,7 @@ PlateRates ComputePlateRates(const Plate& plate, const Layout& layout, const Ass
     if (info.role == WellRole::kEmpty) {
       w.estimate.ok = false;
       w.estimate.message = "empty well: no rate estimated";
+      decide(&w);
       out.wells.push_back(std::move(w));
       if (progress) progress(i + 1, total);
       continue;
@@ -147,32 +165,50 @@ PlateRates ComputePlateRates(const Plate& plate, const Layout& layout, const Ass
       // No-substrate and standard wells hold no substrate: nothing to deplete.
       const bool no_substrate = info.role == WellRole::kNoSubstrate || info.role == WellRole::kStandard;
       input.substrate_uM = no_substrate ? 0.0 : info.substrate_uM;
-      w.estimate = EstimateInitialRate(input, options);
+      w.estimate = EstimateInitialRate(input, options_for(well));
+      // The pooled lag (step 2b) is a property of the plate: it comes from
+      // the automatic windows, whatever window a person chose for a well.
+      if (decisions.windows_min.count(well)) {
+        automatic_estimates.emplace(well, EstimateInitialRate(input, options));
+      }
     } else {
       w.estimate.ok = false;
       w.estimate.message = "no usable pathlength for this well";
     }
     for (const std::string& flag : w.estimate.flags) AddFlag(&w, flag);
     if (!w.estimate.ok) AddFlag(&w, "no-rate");
+    decide(&w);
     out.wells.push_back(std::move(w));
     if (progress) progress(i + 1, total);
   }
 
   // Second pass with the plate's coupling lag held (header, step 2b).
   if (settings.rate.method != RateMethod::kLinear) {
-    std::vector<double> taus;
+    // Inverse-variance weighted mean of every well's own τ. Selecting wells
+    // by relative precision (SE below a fraction of τ) would favour the
+    // wells whose τ came out high: on the demo plates that read the lag
+    // 25-50 % long. Each SE is floored so that one well cannot dominate.
+    constexpr double kTauSeFloorMin = 0.01;
+    double sum_w = 0.0;
+    double sum_wt = 0.0;
+    int wells_used = 0;
     for (const WellRate& w : out.wells) {
       const bool has_enzyme = w.role == WellRole::kSample || w.role == WellRole::kNoSubstrate;
-      const RateEstimate& e = w.estimate;
+      const auto automatic = automatic_estimates.find(w.well);
+      const RateEstimate& e = automatic != automatic_estimates.end() ? automatic->second : w.estimate;
       if (!has_enzyme || !e.IsUsable() || !e.lag_tau_min || !e.lag_tau_se_min) continue;
-      if (*e.lag_tau_se_min < 0.25 * *e.lag_tau_min + 0.05) taus.push_back(*e.lag_tau_min);
+      if (!std::isfinite(*e.lag_tau_min) || !std::isfinite(*e.lag_tau_se_min)) continue;
+      const double se = std::max(*e.lag_tau_se_min, kTauSeFloorMin);
+      sum_w += 1.0 / (se * se);
+      sum_wt += *e.lag_tau_min / (se * se);
+      ++wells_used;
     }
-    if (taus.size() >= 3) {
-      std::sort(taus.begin(), taus.end());
-      const std::size_t m = taus.size() / 2;
-      const double tau = taus.size() % 2 ? taus[m] : 0.5 * (taus[m - 1] + taus[m]);
+    const double pooled = sum_w > 0.0 ? sum_wt / sum_w : 0.0;
+    const double pooled_se = sum_w > 0.0 ? 1.0 / std::sqrt(sum_w) : 0.0;
+    if (wells_used >= 3 && pooled_se < 0.25 * pooled + 0.05) {
+      const double tau = pooled;
       out.coupling_tau_min = tau;
-      out.coupling_tau_wells = static_cast<int>(taus.size());
+      out.coupling_tau_wells = wells_used;
       for (WellRate& w : out.wells) {
         if (w.role != WellRole::kSample && w.role != WellRole::kNoSubstrate) continue;
         if (!(std::isfinite(w.pathlength_cm) && w.pathlength_cm > 0.0)) continue;
@@ -181,7 +217,7 @@ PlateRates ComputePlateRates(const Plate& plate, const Layout& layout, const Ass
         input.product_uM_per_A = ProductMicromolarPerAbsorbance(settings.detection, w.pathlength_cm);
         input.substrate_uM = w.role == WellRole::kNoSubstrate ? 0.0 : w.substrate_uM;  // samples and no-substrate only
         input.coupling_tau_min = tau;
-        w.estimate = EstimateInitialRate(input, options);
+        w.estimate = EstimateInitialRate(input, options_for(w.well));
         std::vector<std::string> kept;
         for (const std::string& f : w.flags) {
           if (f.rfind("pathlength-", 0) == 0) kept.push_back(f);
@@ -189,6 +225,7 @@ PlateRates ComputePlateRates(const Plate& plate, const Layout& layout, const Ass
         w.flags = kept;
         for (const std::string& flag : w.estimate.flags) AddFlag(&w, flag);
         if (!w.estimate.ok) AddFlag(&w, "no-rate");
+        if (decisions.windows_min.count(w.well)) AddFlag(&w, "user-window");
       }
     }
   }
@@ -196,7 +233,7 @@ PlateRates ComputePlateRates(const Plate& plate, const Layout& layout, const Ass
   // Background from the blank wells.
   std::vector<const WellRate*> blanks;
   for (const WellRate& w : out.wells) {
-    if (w.role == WellRole::kBlank && w.estimate.IsUsable()) blanks.push_back(&w);
+    if (w.role == WellRole::kBlank && !w.excluded && w.estimate.IsUsable()) blanks.push_back(&w);
   }
   const Background plate_background = MeanBackground(blanks);
   out.background_uM_per_min = plate_background.rate;

@@ -7,9 +7,10 @@
 //   2. the initial rate of product formation v_raw (EstimateInitialRate) in
 //      µM/min, with its SE and flags;
 //   2b. the coupling lag τ is a property of the coupling system, the same in
-//      every well of a plate: when at least three wells with enzyme resolve
-//      τ well (SE below a quarter of τ plus 3 s), their median is held for a
-//      second pass over every well with enzyme. This roughly halves the SE of
+//      every well of a plate: the inverse-variance weighted mean of the
+//      wells' own τ (each SE floored at 0.6 s), when at least three wells
+//      with enzyme have one and the pooled SE is below a quarter of τ plus
+//      3 s, is held for a second pass over every well with enzyme. This roughly halves the SE of
 //      weak wells whose windows are short; the spread of τ over the plate is
 //      small next to what a single weak well could resolve. Method linear
 //      models no lag and is left alone;
@@ -30,12 +31,23 @@
 // Blank wells keep their own rate uncorrected (they are the background).
 // Wells without data are left out; empty wells with readings are listed
 // with no rate.
+//
+// The user's decisions (WellDecisions) enter here because they change the
+// plate, not just one well: an excluded well keeps its own rate (shown,
+// never used in a fit) and an excluded blank leaves the background. The
+// pooled coupling lag comes from the automatic windows of the wells and
+// depends on neither exclusions nor user windows, so
+// excluding a sample well or choosing its window changes no other well's
+// rate. A user window replaces the automatic window of that well
+// ("user-window" flag).
 #pragma once
 
 #include <cmath>
 #include <functional>
+#include <map>
 #include <optional>
 #include <string>
+#include <utility>
 #include <vector>
 
 #include "fitting/assay_settings.h"
@@ -81,6 +93,14 @@ struct WellRate {
   bool HasRate() const { return estimate.ok && std::isfinite(rate_uM_per_min); }
 };
 
+// Decisions a person made about wells of one plate, by well index.
+struct WellDecisions {
+  // Rate window [start, end] in minutes from the first read.
+  std::map<int, std::pair<double, double>> windows_min;
+  // Excluded wells and the reason given.
+  std::map<int, std::string> exclusions;
+};
+
 struct PlateRates {
   std::string plate;  // the plate file's path as given
   PathlengthResult pathlength;
@@ -101,6 +121,7 @@ struct PlateRates {
 // well are flags, not exceptions.
 PlateRates ComputePlateRates(const Plate& plate, const Layout& layout,
                              const AssaySettings& settings,
-                             const std::function<void(int, int)>& progress = {});
+                             const std::function<void(int, int)>& progress = {},
+                             const WellDecisions& decisions = {});
 
 }  // namespace ratewell

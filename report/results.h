@@ -8,6 +8,14 @@
 //
 // rates.csv: one row per well with data, units in the column names, "NA" for
 // a value that does not exist (read as missing by R's read.csv and pandas).
+//
+// Beyond the contract's keys, results.json carries per fit: equation,
+// preferred, num_parameters, residual_sd, aic, delta_aicc, akaike_weight,
+// termination, message, weighting, loss, derived {kcat, …}, warnings
+// [{code, message}], runs_test, bootstrap; per parameter: ci_level,
+// ci_note, se_reason / ci_reason (when null), determined, fixed, at_bound;
+// and at the top level model_choice {requested, attempted, family, points,
+// reason, tests [F tests of nested pairs]}.
 #pragma once
 
 #include <nlohmann/json.hpp>
@@ -25,6 +33,15 @@ nlohmann::json ResultsJson(const Analysis& analysis);
 
 // The rates.csv table, header included, LF line ends.
 std::string RatesCsv(const Analysis& analysis);
+
+// The "fits" array of results.json alone: every candidate fit, the
+// preferred one marked (the GUI and the PDF show the same table).
+nlohmann::json FitsJson(const Analysis& analysis);
+
+// parameters.csv: one row per (model, parameter), fitted and derived
+// (kcat, kcat/Km, specific activity, Ki by Cheng–Prusoff, IC50), for every
+// candidate model; "NA" where a number was not determined, and the reason.
+std::string ParametersCsv(const Analysis& analysis);
 
 // The version string written into outputs ("0.1.0").
 const char* SoftwareVersion();

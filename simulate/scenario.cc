@@ -27,17 +27,17 @@ constexpr double kMaxCouplingTauMin = 1.0e4;
 constexpr double kMinChannelSeparationNm = 1.0;
 
 struct ModelName {
-  KineticModel model;
+  RateLaw model;
   const char* name;
 };
 constexpr ModelName kModelNames[] = {
-    {KineticModel::kMichaelisMenten, "michaelis-menten"},
-    {KineticModel::kSubstrateInhibition, "substrate-inhibition"},
-    {KineticModel::kHill, "hill"},
-    {KineticModel::kCompetitive, "competitive"},
-    {KineticModel::kUncompetitive, "uncompetitive"},
-    {KineticModel::kNoncompetitive, "noncompetitive"},
-    {KineticModel::kMixed, "mixed"},
+    {RateLaw::kMichaelisMenten, "michaelis-menten"},
+    {RateLaw::kSubstrateInhibition, "substrate-inhibition"},
+    {RateLaw::kHill, "hill"},
+    {RateLaw::kCompetitive, "competitive"},
+    {RateLaw::kUncompetitive, "uncompetitive"},
+    {RateLaw::kNoncompetitive, "noncompetitive"},
+    {RateLaw::kMixed, "mixed"},
 };
 
 std::string ModelList() {
@@ -504,26 +504,26 @@ class ScenarioReader {
     Require(k, "model", "one of " + ModelList());
     const std::string model_name = String(k + "/model");
     KineticTruth& t = s->kinetics;
-    if (!StringToKineticModel(model_name, &t.model)) {
+    if (!StringToRateLaw(model_name, &t.model)) {
       Fail(k + "/model", "unknown model \"" + model_name + "\"; expected one of " + ModelList());
     }
     std::vector<std::string> needed;
     switch (t.model) {
-      case KineticModel::kMichaelisMenten:
+      case RateLaw::kMichaelisMenten:
         needed = {"km_uM"};
         break;
-      case KineticModel::kSubstrateInhibition:
+      case RateLaw::kSubstrateInhibition:
         needed = {"km_uM", "ksi_uM"};
         break;
-      case KineticModel::kHill:
+      case RateLaw::kHill:
         needed = {"khalf_uM", "hill_h"};
         break;
-      case KineticModel::kCompetitive:
-      case KineticModel::kUncompetitive:
-      case KineticModel::kNoncompetitive:
+      case RateLaw::kCompetitive:
+      case RateLaw::kUncompetitive:
+      case RateLaw::kNoncompetitive:
         needed = {"km_uM", "ki_uM"};
         break;
-      case KineticModel::kMixed:
+      case RateLaw::kMixed:
         needed = {"km_uM", "ki_uM", "alpha"};
         break;
     }
@@ -850,14 +850,14 @@ class ScenarioReader {
 
 }  // namespace
 
-const char* KineticModelToString(KineticModel model) {
+const char* RateLawToString(RateLaw model) {
   for (const ModelName& entry : kModelNames) {
     if (entry.model == model) return entry.name;
   }
   return "unknown";
 }
 
-bool StringToKineticModel(std::string_view text, KineticModel* model) {
+bool StringToRateLaw(std::string_view text, RateLaw* model) {
   for (const ModelName& entry : kModelNames) {
     if (text == entry.name) {
       *model = entry.model;
@@ -873,21 +873,21 @@ double EnzymeRate(const KineticTruth& k, double substrate_uM, double inhibitor_u
   const double vmax = k.vmax_uM_per_min;
   if (vmax == 0.0 || s == 0.0) return 0.0;
   switch (k.model) {
-    case KineticModel::kMichaelisMenten:
+    case RateLaw::kMichaelisMenten:
       return vmax * s / (k.km_uM + s);
-    case KineticModel::kSubstrateInhibition:
+    case RateLaw::kSubstrateInhibition:
       return vmax * s / (k.km_uM + s + s * s / k.ksi_uM);
-    case KineticModel::kHill: {
+    case RateLaw::kHill: {
       const double sh = std::pow(s, k.hill_h);
       return vmax * sh / (std::pow(k.km_uM, k.hill_h) + sh);
     }
-    case KineticModel::kCompetitive:
+    case RateLaw::kCompetitive:
       return vmax * s / (k.km_uM * (1.0 + i / k.ki_uM) + s);
-    case KineticModel::kUncompetitive:
+    case RateLaw::kUncompetitive:
       return vmax * s / (k.km_uM + s * (1.0 + i / k.ki_uM));
-    case KineticModel::kNoncompetitive:
+    case RateLaw::kNoncompetitive:
       return vmax * s / ((k.km_uM + s) * (1.0 + i / k.ki_uM));
-    case KineticModel::kMixed:
+    case RateLaw::kMixed:
       return vmax * s / (k.km_uM * (1.0 + i / k.ki_uM) + s * (1.0 + i / (k.alpha * k.ki_uM)));
   }
   return 0.0;

@@ -122,8 +122,10 @@
 
 namespace ratewell {
 
-// The rate laws the simulator knows (DESIGN §2 ids).
-enum class KineticModel {
+// The rate laws the simulator knows (DESIGN §2 ids; a subset of the fitted
+// models of fitting/kinetic_models.h, kept apart so the simulated truth does
+// not depend on the code it checks).
+enum class RateLaw {
   kMichaelisMenten,      // "michaelis-menten"
   kSubstrateInhibition,  // "substrate-inhibition"
   kHill,                 // "hill"
@@ -132,12 +134,12 @@ enum class KineticModel {
   kNoncompetitive,       // "noncompetitive"
   kMixed,                // "mixed"
 };
-const char* KineticModelToString(KineticModel model);
-bool StringToKineticModel(std::string_view text, KineticModel* model);
+const char* RateLawToString(RateLaw model);
+bool StringToRateLaw(std::string_view text, RateLaw* model);
 
 // The kinetic truth of a scenario. Unused parameters keep their defaults.
 struct KineticTruth {
-  KineticModel model = KineticModel::kMichaelisMenten;
+  RateLaw model = RateLaw::kMichaelisMenten;
   // Maximal rate at the scenario's enzyme concentration, µM/min (given, or
   // kcat × 60 × [E]µM).
   double vmax_uM_per_min = 0.0;

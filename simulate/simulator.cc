@@ -273,24 +273,24 @@ nlohmann::ordered_json TruthJson(const Scenario& s, const SimulatedPlate& simula
   Json parameters = Json::object();
   parameters["Vmax"] = Parameter(k.vmax_uM_per_min, "uM/min");
   switch (k.model) {
-    case KineticModel::kMichaelisMenten:
+    case RateLaw::kMichaelisMenten:
       parameters["Km"] = Parameter(k.km_uM, "uM");
       break;
-    case KineticModel::kSubstrateInhibition:
+    case RateLaw::kSubstrateInhibition:
       parameters["Km"] = Parameter(k.km_uM, "uM");
       parameters["Ksi"] = Parameter(k.ksi_uM, "uM");
       break;
-    case KineticModel::kHill:
+    case RateLaw::kHill:
       parameters["Khalf"] = Parameter(k.km_uM, "uM");
       parameters["h"] = Parameter(k.hill_h, "1");
       break;
-    case KineticModel::kCompetitive:
-    case KineticModel::kUncompetitive:
-    case KineticModel::kNoncompetitive:
+    case RateLaw::kCompetitive:
+    case RateLaw::kUncompetitive:
+    case RateLaw::kNoncompetitive:
       parameters["Km"] = Parameter(k.km_uM, "uM");
       parameters["Ki"] = Parameter(k.ki_uM, "uM");
       break;
-    case KineticModel::kMixed:
+    case RateLaw::kMixed:
       parameters["Km"] = Parameter(k.km_uM, "uM");
       parameters["Ki"] = Parameter(k.ki_uM, "uM");
       parameters["alpha"] = Parameter(k.alpha, "1");
@@ -317,7 +317,7 @@ nlohmann::ordered_json TruthJson(const Scenario& s, const SimulatedPlate& simula
                     {"start_delay_s", s.reads.start_delay_s},
                     {"times_count_from", "mixing"},
                     {"temperature_C", OptionalNumber(s.reads.temperature_C)}};
-  truth["kinetics"] = {{"model", KineticModelToString(k.model)},
+  truth["kinetics"] = {{"model", RateLawToString(k.model)},
                        {"parameters", parameters},
                        {"kcat_per_s", OptionalNumber(kcat)},
                        {"enzyme_nM", OptionalNumber(enzyme_nM)},

@@ -320,7 +320,9 @@ TEST(AssaySettingsParse, JsonOfDefaultsHoldsEverySettingUsed) {
   EXPECT_EQ(json.at("blank"), "plate-mean");
   EXPECT_EQ(json.at("absorbance_ceiling"), 2.5);
   EXPECT_EQ(json.at("max_substrate_consumed"), 0.10);
-  EXPECT_EQ(json.size(), 7u);
+  EXPECT_EQ(json.at("fit").at("model"), "auto");
+  EXPECT_EQ(json.at("fit").at("interval"), "profile");
+  EXPECT_EQ(json.size(), 8u);
 }
 
 TEST(AssaySettingsParse, JsonHoldsOnlyTheKeysOfThePathlengthMode) {
@@ -387,7 +389,7 @@ TEST(AssaySettingsParse, UnknownTopLevelKeyIsRejectedWithAHint) {
   EXPECT_EQ(error.column(), 3);
   EXPECT_THAT(error.reason(),
               AllOf(HasSubstr("pathlenght: unknown key"), HasSubstr("did you mean \"pathlength\""),
-                    HasSubstr("detection, pathlength, enzyme, rate, blank, absorbance_ceiling, "
+                    HasSubstr("detection, pathlength, enzyme, rate, fit, blank, absorbance_ceiling, "
                               "max_substrate_consumed")));
 }
 
@@ -582,6 +584,72 @@ TEST(AssaySettingsParse, Utf16FileIsRejectedWithAClearReason) {
     EXPECT_THAT(error.reason(), HasSubstr("UTF-16"));
   }
   std::filesystem::remove(path);
+}
+
+}  // namespace
+}  // namespace ratewell
+
+// ---------------------------------------------------------------------------
+// The "fit" section.
+
+namespace ratewell {
+namespace {
+
+TEST(AssaySettingsFit, DefaultsFitAutoWithProfileIntervalsAndNoWeights) {
+  const AssaySettings settings;
+  EXPECT_EQ(settings.fit.model, "auto");
+  EXPECT_EQ(settings.fit.weighting, Weighting::kNone);
+  EXPECT_EQ(settings.fit.loss, RobustLoss::kNone);
+  EXPECT_EQ(settings.fit.interval, IntervalMethod::kProfile);
+  EXPECT_EQ(settings.fit.confidence_level, 0.95);
+  EXPECT_FALSE(settings.fit.cheng_prusoff_mode.has_value());
+}
+
+TEST(AssaySettingsFit, EveryKeyIsReadAndRoundTrips) {
+  const AssaySettings s = ParseAssaySettings(R"({"fit": {
+      "model": "competitive", "weighting": "inverse-variance", "loss": "huber",
+      "loss_scale": 2.5, "interval": "bootstrap", "confidence_level": 0.9,
+      "bootstrap": {"resamples": 500, "scheme": "cases", "seed": 42},
+      "cheng_prusoff": {"mode": "competitive", "substrate_uM": 100, "km_uM": 50,
+                        "km_se_uM": 4}}})",
+                                             kFile);
+  EXPECT_EQ(s.fit.model, "competitive");
+  EXPECT_EQ(s.fit.weighting, Weighting::kInverseVariance);
+  EXPECT_EQ(s.fit.loss, RobustLoss::kHuber);
+  EXPECT_EQ(s.fit.loss_scale, 2.5);
+  EXPECT_EQ(s.fit.interval, IntervalMethod::kBootstrap);
+  EXPECT_EQ(s.fit.confidence_level, 0.9);
+  EXPECT_EQ(s.fit.bootstrap_resamples, 500);
+  EXPECT_EQ(s.fit.bootstrap_scheme, BootstrapScheme::kCases);
+  EXPECT_EQ(s.fit.bootstrap_seed, 42u);
+  ASSERT_TRUE(s.fit.cheng_prusoff_mode.has_value());
+  EXPECT_EQ(*s.fit.cheng_prusoff_mode, KineticModel::kCompetitive);
+  EXPECT_EQ(s.fit.cheng_prusoff_substrate_uM, 100.0);
+  EXPECT_EQ(s.fit.cheng_prusoff_km_uM, 50.0);
+  EXPECT_EQ(s.fit.cheng_prusoff_km_se_uM, 4.0);
+  EXPECT_EQ(ParseAssaySettings(AssaySettingsToJson(s).dump(), kFile), s);
+  EXPECT_EQ(ParseAssaySettings(AssaySettingsToJson(AssaySettings()).dump(), kFile),
+            AssaySettings());
+}
+
+TEST(AssaySettingsFit, BadValuesNameTheirKeyAndWhatWasExpected) {
+  EXPECT_THAT(ParseError(R"({"fit": {"model": "michaelis"}})").what(),
+              AllOf(HasSubstr("fit.model"), HasSubstr("michaelis-menten")));
+  EXPECT_THAT(ParseError(R"({"fit": {"weighting": "1/y"}})").what(),
+              AllOf(HasSubstr("fit.weighting"), HasSubstr("inverse-variance")));
+  EXPECT_THAT(ParseError(R"({"fit": {"confidence_level": 95}})").what(),
+              AllOf(HasSubstr("fit.confidence_level"), HasSubstr("between 0.5 and 1")));
+  EXPECT_THAT(ParseError(R"({"fit": {"bootstrap": {"resamples": 20}}})").what(),
+              HasSubstr("fit.bootstrap.resamples"));
+  EXPECT_THAT(ParseError(R"({"fit": {"bootstrap": {"resamples": 250.5}}})").what(),
+              HasSubstr("whole number"));
+  EXPECT_THAT(ParseError(R"({"fit": {"cheng_prusoff": {"mode": "mixed", "substrate_uM": 1,
+                                                       "km_uM": 1}}})").what(),
+              HasSubstr("fit.cheng_prusoff.mode"));
+  EXPECT_THAT(ParseError(R"({"fit": {"cheng_prusoff": {"mode": "competitive"}}})").what(),
+              HasSubstr("missing \"substrate_uM\""));
+  EXPECT_THAT(ParseError(R"({"fit": {"intervals": "profile"}})").what(),
+              AllOf(HasSubstr("fit.intervals"), HasSubstr("interval")));
 }
 
 }  // namespace

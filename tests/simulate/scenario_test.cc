@@ -86,7 +86,7 @@ TEST(Scenario, DocumentedExampleFileIsReadCompletely) {
   EXPECT_EQ(s.pathlength.assay_mode, PathlengthMode::kWaterPeak);
   EXPECT_EQ(s.nadh_uM, 250.0);
 
-  EXPECT_EQ(s.kinetics.model, KineticModel::kMixed);
+  EXPECT_EQ(s.kinetics.model, RateLaw::kMixed);
   ASSERT_TRUE(s.kinetics.kcat_per_s.has_value());
   // Vmax = kcat × 60 s/min × [E]: 12 s⁻¹ × 60 × 0.005 µM = 3.6 µM/min.
   EXPECT_DOUBLE_EQ(s.kinetics.vmax_uM_per_min, 3.6);
@@ -152,7 +152,7 @@ TEST(Scenario, AssaySettingsForTheScenarioParseBackUnchanged) {
 
 TEST(Scenario, ValidBaseParses) {
   const Scenario s = ParseScenario(kValid, "base.json");
-  EXPECT_EQ(s.kinetics.model, KineticModel::kCompetitive);
+  EXPECT_EQ(s.kinetics.model, RateLaw::kCompetitive);
   EXPECT_EQ(s.source, "base.json");
 }
 

@@ -71,7 +71,7 @@ constexpr double kOdeRelativeTolerance = 1e-9;
 TEST(CoupledAssayOde, ConstantRateLagMatchesMcClure) {
   for (const double per_turnover : {1.0, 2.0}) {
     detail::CoupledWell well;
-    well.kinetics.model = KineticModel::kMichaelisMenten;
+    well.kinetics.model = RateLaw::kMichaelisMenten;
     well.kinetics.vmax_uM_per_min = 5.0;
     well.kinetics.km_uM = 1e-12;  // v = Vmax·S/(Km + S) = Vmax to 1e-18
     well.substrate0_uM = 1e6;     // 20 min use 100 µM of it: v changes by < 1e-20
@@ -126,7 +126,7 @@ TEST(CoupledAssayOde, BoostLambertWAgreesWithScipy) {
 // every turnover takes per_turnover NADH: N = N0 − p·(S0 − S).
 TEST(CoupledAssayOde, MichaelisMentenDepletionMatchesSchnellMendoza) {
   detail::CoupledWell well;
-  well.kinetics.model = KineticModel::kMichaelisMenten;
+  well.kinetics.model = RateLaw::kMichaelisMenten;
   well.kinetics.vmax_uM_per_min = 10.0;
   well.kinetics.km_uM = 20.0;
   well.substrate0_uM = 100.0;
@@ -165,7 +165,7 @@ TEST(CoupledAssayOde, BlankWellDriftsLinearly) {
 // the substrate keeps being used (the primary enzyme does not know).
 TEST(CoupledAssayOde, SignalStopsWhenNadhRunsOut) {
   detail::CoupledWell well;
-  well.kinetics.model = KineticModel::kMichaelisMenten;
+  well.kinetics.model = RateLaw::kMichaelisMenten;
   well.kinetics.vmax_uM_per_min = 10.0;
   well.kinetics.km_uM = 1e-12;
   well.substrate0_uM = 1e6;
@@ -188,7 +188,7 @@ TEST(CoupledAssayOde, SignalStopsWhenNadhRunsOut) {
 // below the clamped model's; it never goes negative and never rises.
 TEST(CoupledAssayOde, SmoothNadhLimitSlowsTheLastStep) {
   detail::CoupledWell well;
-  well.kinetics.model = KineticModel::kMichaelisMenten;
+  well.kinetics.model = RateLaw::kMichaelisMenten;
   well.kinetics.vmax_uM_per_min = 10.0;
   well.kinetics.km_uM = 1e-12;
   well.substrate0_uM = 1e6;
@@ -213,7 +213,7 @@ TEST(CoupledAssayOde, SmoothNadhLimitSlowsTheLastStep) {
 // Direction "formed": the detected species rises by p per coupled turnover.
 TEST(CoupledAssayOde, FormedSpeciesRises) {
   detail::CoupledWell well;
-  well.kinetics.model = KineticModel::kMichaelisMenten;
+  well.kinetics.model = RateLaw::kMichaelisMenten;
   well.kinetics.vmax_uM_per_min = 4.0;
   well.kinetics.km_uM = 1e-12;
   well.substrate0_uM = 1e6;
