@@ -21,6 +21,7 @@
 #include "importers/input_error.h"
 #include "importers/read_plate.h"
 #include "report/files.h"
+#include "report/pdf_report.h"
 #include "report/results.h"
 #include "simulate/simulator.h"
 
@@ -195,13 +196,52 @@ std::set<std::string> ParseOutputs(const std::string& list) {
   std::string item;
   while (std::getline(s, item, ',')) {
     if (item.empty()) continue;
-    if (item != "json" && item != "csv") {
-      throw InputError("--outputs", 0, 0, "unknown output '" + item + "'; expected json or csv");
+    if (item != "json" && item != "csv" && item != "pdf") {
+      throw InputError("--outputs", 0, 0,
+                       "unknown output '" + item + "'; expected json, csv or pdf");
     }
     outputs.insert(item);
   }
-  if (outputs.empty()) throw InputError("--outputs", 0, 0, "no output named; expected json, csv or both");
+  if (outputs.empty()) {
+    throw InputError("--outputs", 0, 0, "no output named; expected one or more of json, csv, pdf");
+  }
   return outputs;
+}
+
+// "12.3 uM/min (95 % CI 11.9 to 12.7, profile)" or the reason it is missing.
+std::string DescribeEstimate(const ParameterEstimate& p) {
+  std::string text = FormatNumber(p.value, 4) + " " + p.unit;
+  if (p.fixed) return text + " (held fixed)";
+  if (p.ci.determined) {
+    text += " (" + FormatNumber(p.ci.level * 100, 3) + " % CI " + FormatNumber(p.ci.lower, 4) +
+            " to " + FormatNumber(p.ci.upper, 4) + ", " + IntervalMethodToString(p.ci.method) + ")";
+  } else {
+    text += " (interval not determined: " + p.ci.reason + ")";
+  }
+  return text;
+}
+
+// The kinetic result in a few lines; true when it needs a person (no usable
+// fit, or a parameter of the preferred model without an interval).
+bool PrintKinetics(const Analysis& analysis, std::ostream& out) {
+  const KineticAnalysis& k = analysis.kinetics;
+  if (!k.attempted) {
+    out << "no kinetic fit: " << k.reason << "\n";
+    return analysis.UsableSampleWells() > 0;
+  }
+  const KineticFit* fit = k.choice.Preferred();
+  if (fit == nullptr) {
+    out << "kinetic fit failed: " << k.choice.reason << "\n";
+    return true;
+  }
+  out << "kinetic fit (" << k.data.points.size() << " wells): " << k.choice.reason << "\n";
+  bool undetermined = false;
+  for (const ParameterEstimate& p : fit->parameters) {
+    out << "  " << p.name << " = " << DescribeEstimate(p) << "\n";
+    if (!p.fixed && !p.ci.determined) undetermined = true;
+  }
+  for (const ParameterEstimate& p : fit->derived) out << "  " << p.name << " = " << DescribeEstimate(p) << "\n";
+  return undetermined;
 }
 
 }  // namespace
@@ -233,11 +273,11 @@ int Run(int argc, const char* const* argv, std::ostream& out, std::ostream& err)
 
   // analyze
   CLI::App* analyze = app.add_subcommand(
-      "analyze", "Initial rates (and, as the project grows, kinetic fits) from plate files");
+      "analyze", "Initial rates, kinetic fits with intervals and reports from plate files");
   AnalysisRequest request;
   ReadFlags analyze_flags;
   std::string out_dir;
-  std::string outputs_list = "json,csv";
+  std::string outputs_list = "json,csv,pdf";
   analyze->add_option("PLATE_FILE", request.plate_paths, "Plate-reader exports of one experiment")
       ->required();
   analyze->add_option("--layout", request.layout_path, "Layout CSV: what is in each well")->required();
@@ -245,7 +285,17 @@ int Run(int argc, const char* const* argv, std::ostream& out, std::ostream& err)
   analyze->add_option("--out", out_dir,
                       "Output folder (default: a new folder named after the first plate, in the "
                       "current directory)");
-  analyze->add_option("--outputs", outputs_list, "Which outputs to write: json, csv (comma separated)");
+  analyze->add_option("--outputs", outputs_list,
+                      "Which outputs to write: json (results.json), csv (rates.csv and "
+                      "parameters.csv), pdf (report.pdf); comma separated (default: all)");
+  std::string interval_name;
+  analyze->add_option("--model", request.model,
+                      "Kinetic model: auto (default: chosen within the family the layout allows) "
+                      "or one of michaelis-menten, substrate-inhibition, hill, competitive, "
+                      "uncompetitive, noncompetitive, mixed, morrison, four-parameter-logistic, "
+                      "four-parameter-logistic-log10");
+  analyze->add_option("--ci", interval_name,
+                      "Confidence intervals: asymptotic, profile (default) or bootstrap");
   AddReadFlags(analyze, &analyze_flags);
 
   try {
@@ -280,6 +330,23 @@ int Run(int argc, const char* const* argv, std::ostream& out, std::ostream& err)
     }
     if (analyze->parsed()) {
       request.read_options = ToReadOptions(analyze_flags);
+      if (!interval_name.empty()) {
+        IntervalMethod method;
+        if (!StringToIntervalMethod(interval_name, &method)) {
+          throw InputError("--ci", 0, 0,
+                           "unknown interval method '" + interval_name +
+                               "'; expected asymptotic, profile or bootstrap");
+        }
+        request.interval_method = method;
+      }
+      KineticModel named;
+      if (!request.model.empty() && request.model != "auto" &&
+          !StringToKineticModel(request.model, &named)) {
+        std::string ids = "auto";
+        for (KineticModel m : AllKineticModels()) ids += std::string(", ") + KineticModelToString(m);
+        throw InputError("--model", 0, 0,
+                         "unknown model '" + request.model + "'; expected one of " + ids);
+      }
       const std::set<std::string> outputs = ParseOutputs(outputs_list);
       std::vector<std::string> inputs = request.plate_paths;
       inputs.push_back(request.layout_path);
@@ -290,11 +357,19 @@ int Run(int argc, const char* const* argv, std::ostream& out, std::ostream& err)
           RunAnalysis(request, [&](double f, const std::string& what) { bar.Update(f, what); });
       bar.Finish();
       fs::create_directories(folder);
+      const nlohmann::json results = ResultsJson(analysis);
       if (outputs.count("json")) {
-        WriteFileAtomically((folder / "results.json").string(), ResultsJson(analysis).dump(2) + "\n");
+        WriteFileAtomically((folder / "results.json").string(), results.dump(2) + "\n");
       }
       if (outputs.count("csv")) {
         WriteFileAtomically((folder / "rates.csv").string(), RatesCsv(analysis));
+        WriteFileAtomically((folder / "parameters.csv").string(), ParametersCsv(analysis));
+      }
+      if (outputs.count("pdf")) {
+        bar.Update(1.0, "writing report.pdf");
+        EnsureGuiApplication();
+        WritePdfReport(analysis, results, (folder / "report.pdf").string());
+        bar.Finish();
       }
       const int usable = analysis.UsableSampleWells();
       const int failed = analysis.FailedSampleWells();
@@ -310,11 +385,14 @@ int Run(int argc, const char* const* argv, std::ostream& out, std::ostream& err)
           out << "  no rate: " << w.name << " (" << plate.plate << "): " << w.estimate.message << "\n";
         }
       }
+      const bool fit_needs_review = PrintKinetics(analysis, out);
       for (const std::string& w : analysis.warnings) out << "  warning: " << w << "\n";
-      out << "results in " << folder.string() << "\n";
+      out << "results in " << folder.string();
+      if (outputs.count("pdf")) out << " (report: " << (folder / "report.pdf").string() << ")";
+      out << "\n";
       out << "Results support, and do not replace, the lab's approved procedures and a qualified "
              "reviewer.\n";
-      return failed > 0 || usable == 0 ? kExitNeedsReview : kExitOk;
+      return failed > 0 || usable == 0 || fit_needs_review ? kExitNeedsReview : kExitOk;
     }
   } catch (const InputError& e) {
     err << "ratewell: " << e.what() << "\n";

@@ -82,5 +82,76 @@ TEST(Analyze, NamesTheLayoutLineOfABadLayoutWithStatusTwo) {
   EXPECT_FALSE(fs::exists(folder / "o"));
 }
 
+TEST(Analyze, FitsTheModelNamedWithTheIntervalMethodAsked) {
+  const fs::path folder = CopyExperiment("named-model");
+  const fs::path out = folder / "results";
+  const Outcome r = RunCli({"analyze", (folder / "mut7_wide.txt").string(), "--layout",
+                            (folder / "layout.csv").string(), "--assay",
+                            (folder / "ASSAY.json").string(), "--out", out.string(), "--model",
+                            "michaelis-menten", "--ci", "asymptotic"});
+  ASSERT_LE(r.status, kExitNeedsReview) << r.err;
+  std::ifstream in(out / "results.json");
+  const nlohmann::json j = nlohmann::json::parse(in);
+  ASSERT_EQ(j["fits"].size(), 1u);
+  EXPECT_EQ(j["fits"][0]["model"], "michaelis-menten");
+  EXPECT_EQ(j["preferred_model"], "michaelis-menten");
+  EXPECT_EQ(j["model_choice"]["requested"], "michaelis-menten");
+  EXPECT_EQ(j["fits"][0]["parameters"]["Km"]["ci_method"], "asymptotic");
+  EXPECT_EQ(j["fits"][0]["parameters"]["Km"]["unit"], "uM");
+  EXPECT_EQ(j["fits"][0]["parameters"]["Vmax"]["unit"], "uM/min");
+  EXPECT_NE(j["model_choice"]["reason"].get<std::string>().find("named by the user"),
+            std::string::npos);
+}
+
+TEST(Analyze, WritesATidyParameterTableWithOneRowPerModelAndParameter) {
+  const fs::path folder = CopyExperiment("parameters");
+  const fs::path out = folder / "results";
+  const Outcome r = RunCli({"analyze", (folder / "mut7_wide.txt").string(), "--layout",
+                            (folder / "layout.csv").string(), "--assay",
+                            (folder / "ASSAY.json").string(), "--out", out.string()});
+  ASSERT_LE(r.status, kExitNeedsReview) << r.err;
+  std::ifstream csv(out / "parameters.csv");
+  std::string line;
+  std::getline(csv, line);
+  EXPECT_EQ(line.rfind("model,preferred,parameter,kind,group,value,unit,se,ci_lower,ci_upper,", 0), 0u);
+  const auto columns = [](const std::string& row) {
+    int n = 1;
+    bool quoted = false;
+    for (char ch : row) {
+      if (ch == '"') quoted = !quoted;
+      if (ch == ',' && !quoted) ++n;
+    }
+    return n;
+  };
+  const int width = columns(line);
+  int rows = 0;
+  int preferred_km = 0;
+  while (std::getline(csv, line)) {
+    ++rows;
+    EXPECT_EQ(columns(line), width) << line;
+    if (line.rfind("substrate-inhibition,true,Km,fitted,", 0) == 0) ++preferred_km;
+  }
+  // Three candidates: michaelis-menten (2 + derived), substrate-inhibition
+  // (3 + derived), hill (3 + derived).
+  EXPECT_GE(rows, 8);
+  EXPECT_EQ(preferred_km, 1);
+  EXPECT_NE(r.out.find("substrate-inhibition preferred"), std::string::npos) << r.out;
+}
+
+TEST(Analyze, RejectsAnUnknownModelOrIntervalMethodWithStatusTwo) {
+  const fs::path folder = CopyExperiment("bad-model");
+  Outcome r = RunCli({"analyze", (folder / "mut7_wide.txt").string(), "--layout",
+                      (folder / "layout.csv").string(), "--out", (folder / "o").string(),
+                      "--model", "michaelis"});
+  EXPECT_EQ(r.status, kExitBadInput);
+  EXPECT_NE(r.err.find("unknown model 'michaelis'"), std::string::npos) << r.err;
+  EXPECT_NE(r.err.find("michaelis-menten"), std::string::npos) << r.err;
+  r = RunCli({"analyze", (folder / "mut7_wide.txt").string(), "--layout",
+              (folder / "layout.csv").string(), "--out", (folder / "o").string(), "--ci", "wald"});
+  EXPECT_EQ(r.status, kExitBadInput);
+  EXPECT_NE(r.err.find("asymptotic, profile or bootstrap"), std::string::npos) << r.err;
+  EXPECT_FALSE(fs::exists(folder / "o"));
+}
+
 }  // namespace
 }  // namespace ratewell::cli
