@@ -13,6 +13,7 @@
 #include <vector>
 
 #include "importers/input_error.h"
+#include "importers/json_position.h"
 
 namespace ratewell {
 namespace {
@@ -372,27 +373,6 @@ std::optional<Problem> FindProblem(const AssaySettings& s) {
 
 // ---------------------------------------------------------------------------
 // Positions in the text.
-
-struct TextPosition {
-  int line = 0;
-  int column = 0;
-};
-
-// 1-based line and column (in characters, UTF-8 aware) of a byte offset.
-TextPosition PositionOfOffset(std::string_view text, std::size_t offset) {
-  offset = std::min(offset, text.size());
-  TextPosition position{1, 1};
-  for (std::size_t i = 0; i < offset; ++i) {
-    const unsigned char c = static_cast<unsigned char>(text[i]);
-    if (c == '\n') {
-      ++position.line;
-      position.column = 1;
-    } else if ((c & 0xC0) != 0x80) {  // not a UTF-8 continuation byte
-      ++position.column;
-    }
-  }
-  return position;
-}
 
 // The parser reports a whole unexpected string token at its closing quote;
 // the person wants its start (a missing comma before a key). Offset of the

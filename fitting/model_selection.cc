@@ -184,8 +184,8 @@ ModelChoice FitAndChooseModel(const KineticData& data, ModelFamily family,
         return std::string(Id(t.larger)) +
                (t.computed ? " (p = " + P(t.p_value) + ")" : " (not tested: " + t.reason + ")");
       };
-      choose(M::kMichaelisMenten, "kept as the simpler model: the F test does not reject it (" +
-                                      level + ") against " + describe(vs_si) + " or " +
+      choose(M::kMichaelisMenten, "kept as the simpler model: the F test does not reject it " +
+                                      level + " against " + describe(vs_si) + " or " +
                                       describe(vs_hill));
     }
     return choice;

@@ -32,18 +32,28 @@ struct DemoCase {
 
 void PrintTo(const DemoCase& c, std::ostream* os) { *os << c.experiment << "/" << c.plate_file; }
 
-class DemoAnalysis : public ::testing::TestWithParam<DemoCase> {};
+class DemoAnalysis : public ::testing::TestWithParam<DemoCase> {
+ protected:
+  // Runs `ratewell analyze` on the case's plate into a fresh folder named
+  // after the test and the case; returns the folder of results.
+  fs::path AnalyzeInto(const std::string& prefix) {
+    const DemoCase& c = GetParam();
+    const fs::path folder = testing::DemoFolder() / c.experiment;
+    const fs::path out =
+        fs::temp_directory_path() / ("ratewell-" + prefix + "-" + c.experiment + "-" + c.plate_file);
+    fs::remove_all(out);
+    const testing::Outcome r = testing::RunCli(
+        {"analyze", (folder / c.plate_file).string(), "--layout", (folder / "layout.csv").string(),
+         "--assay", (folder / "ASSAY.json").string(), "--out", out.string(), "--outputs",
+         "json,csv"});
+    EXPECT_LE(r.status, kExitNeedsReview) << r.err;
+    return out;
+  }
+};
 
 TEST_P(DemoAnalysis, RecoversTheSimulatedInitialRates) {
-  const DemoCase& c = GetParam();
-  const fs::path folder = testing::DemoFolder() / c.experiment;
-  const fs::path out = fs::temp_directory_path() / ("ratewell-demo-test-" + c.experiment + "-" + c.plate_file);
-  fs::remove_all(out);
-  const testing::Outcome r = testing::RunCli(
-      {"analyze", (folder / c.plate_file).string(), "--layout", (folder / "layout.csv").string(),
-       "--assay", (folder / "ASSAY.json").string(), "--out", out.string()});
-  const int status = r.status;
-  ASSERT_LE(status, kExitNeedsReview) << r.err;
+  const fs::path folder = testing::DemoFolder() / GetParam().experiment;
+  const fs::path out = AnalyzeInto("demo-rates");
 
   const nlohmann::json results = ReadJson(out / "results.json");
   const nlohmann::json truth = ReadJson(folder / "truth.json");
@@ -87,15 +97,10 @@ TEST_P(DemoAnalysis, RecoversTheSimulatedInitialRates) {
 // kRateSystematic; Km, Ki, alpha and Ksi are checked against the plain
 // interval.
 constexpr double kRateSystematic = 0.015;
+
 TEST_P(DemoAnalysis, RecoversTheSimulatedKineticConstantsInsideTheirIntervals) {
-  const DemoCase& c = GetParam();
-  const fs::path folder = testing::DemoFolder() / c.experiment;
-  const fs::path out = fs::temp_directory_path() / ("ratewell-demo-fit-" + c.experiment + "-" + c.plate_file);
-  fs::remove_all(out);
-  const testing::Outcome r = testing::RunCli(
-      {"analyze", (folder / c.plate_file).string(), "--layout", (folder / "layout.csv").string(),
-       "--assay", (folder / "ASSAY.json").string(), "--out", out.string()});
-  ASSERT_LE(r.status, kExitNeedsReview) << r.err;
+  const fs::path folder = testing::DemoFolder() / GetParam().experiment;
+  const fs::path out = AnalyzeInto("demo-fit");
   const nlohmann::json results = ReadJson(out / "results.json");
   const nlohmann::json truth = ReadJson(folder / "truth.json")["kinetics"];
 
@@ -131,8 +136,8 @@ INSTANTIATE_TEST_SUITE_P(
                       DemoCase{"kn2-lot-release", "kn2-2611a_long.csv"},
                       DemoCase{"cbx-inhibitor-series", "cbx214_grid.csv"},
                       DemoCase{"mut7-mutase", "mut7_wide.txt"}),
-    [](const ::testing::TestParamInfo<DemoCase>& info) {
-      std::string name = info.param.plate_file;
+    [](const ::testing::TestParamInfo<DemoCase>& case_info) {
+      std::string name = case_info.param.plate_file;
       for (char& ch : name) {
         if (!std::isalnum(static_cast<unsigned char>(ch))) ch = '_';
       }
