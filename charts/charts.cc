@@ -423,14 +423,14 @@ QChart* MakeResidualChart(const Analysis& analysis, const KineticFit& fit,
 
   QString title = options.title;
   if (title.isEmpty()) {
-    title = QStringLiteral("Residuals (v − fit), ") + ModelName(&fit);
+    title = QStringLiteral("Residuals (v − fit, µM/min), ") + ModelName(&fit);
     if (!has_residuals) title += QStringLiteral(": no residuals");
   }
   chart->setTitle(title);
   QAbstractAxis* x_axis = log_x ? static_cast<QAbstractAxis*>(detail::MakeLogAxis(
                                       x_extent, QStringLiteral("[S] (µM)"), false))
                                 : detail::MakeLinearAxis(x_extent, QStringLiteral("[S] (µM)"), false, 6, true);
-  QValueAxis* y_axis = detail::MakeLinearAxis(y_extent, QStringLiteral("residual (µM/min)"), false, 5);
+  QValueAxis* y_axis = detail::MakeLinearAxis(y_extent, QStringLiteral("v − fit"), false, 5);
   chart->addAxis(x_axis, Qt::AlignBottom);
   chart->addAxis(y_axis, Qt::AlignLeft);
 
