@@ -229,7 +229,7 @@ void FitKinetics(Analysis* analysis, const ProgressCallback& progress) {
   }
 
   FitOptions& options = k.options;
-  options.weighting = fit_settings.weighting;
+  options.weighting = analysis->request.weighting.value_or(fit_settings.weighting);
   options.loss = fit_settings.loss;
   options.loss_scale = fit_settings.loss_scale;
   options.interval_method = analysis->request.interval_method.value_or(fit_settings.interval);

@@ -63,6 +63,8 @@ struct AnalysisRequest {
   std::string model;
   // Interval method; nullopt: AssaySettings::fit.interval.
   std::optional<IntervalMethod> interval_method;
+  // Weighting of the kinetic fit; nullopt: AssaySettings::fit.weighting.
+  std::optional<Weighting> weighting;
   // The user's decisions, applied in order (a later entry for the same well
   // replaces an earlier one).
   std::vector<WellExclusion> exclusions;

@@ -318,7 +318,7 @@ void AnalysisSession::setIntervalMethod(const QString& method) {
 
 void AnalysisSession::setWeighting(const QString& weighting) {
   if (!has_document_ || !analysis_) return;
-  const Weighting now = document_.CurrentWeighting().value_or(analysis_->settings.fit.weighting);
+  const Weighting now = analysis_->request.weighting.value_or(analysis_->settings.fit.weighting);
   if (weighting.toStdString() == WeightingToString(now)) return;
   ManualChange change;
   change.kind = ChangeKind::kWeighting;

@@ -209,7 +209,7 @@ void WorkbenchWindow::refreshTitle() {
 QString WorkbenchWindow::currentWeighting() const {
   const auto analysis = session_->analysis();
   if (!analysis) return "none";
-  return WeightingToString(analysis->settings.fit.weighting);
+  return WeightingToString(analysis->request.weighting.value_or(analysis->settings.fit.weighting));
 }
 
 void WorkbenchWindow::refreshAll() {

@@ -601,8 +601,11 @@ AnalysisRequest AnalysisDocument::CurrentRequest() const {
         if (StringToIntervalMethod(change.value, &method)) request.interval_method = method;
         break;
       }
-      case ChangeKind::kWeighting:
+      case ChangeKind::kWeighting: {
+        Weighting weighting;
+        if (StringToWeighting(change.value, &weighting)) request.weighting = weighting;
         break;
+      }
     }
   }
   return request;
@@ -710,11 +713,6 @@ RebuiltAnalysis RebuildAnalysis(const AnalysisDocument& document, const Progress
                             "audit trail broken: " + rebuilt.integrity.message);
   }
   rebuilt.analysis = RunAnalysis(document.CurrentRequest(), progress);
-  const std::optional<Weighting> weighting = document.CurrentWeighting();
-  if (weighting && *weighting != rebuilt.analysis.settings.fit.weighting) {
-    rebuilt.analysis.settings.fit.weighting = *weighting;
-    FitKinetics(&rebuilt.analysis, progress);
-  }
   return rebuilt;
 }
 
@@ -746,9 +744,12 @@ void ApplyChange(Analysis* analysis, const ManualChange& change) {
       analysis->request.interval_method = method;
       break;
     }
-    case ChangeKind::kWeighting:
-      StringToWeighting(change.value, &analysis->settings.fit.weighting);
+    case ChangeKind::kWeighting: {
+      Weighting weighting;
+      StringToWeighting(change.value, &weighting);
+      analysis->request.weighting = weighting;
       break;
+    }
   }
 }
 

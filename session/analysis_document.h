@@ -86,10 +86,9 @@ class AnalysisDocument {
   std::vector<ManualChange> Changes() const;
   // The base request with every change applied: the exclusions and windows
   // in force (a restore or automatic-window removes the well's entry), the
-  // model and interval method last chosen.
+  // model, interval method and weighting last chosen.
   AnalysisRequest CurrentRequest() const;
-  // The weighting last chosen, if any (the request has no field for it; it
-  // overrides AssaySettings::fit.weighting).
+  // The weighting last chosen, if any (CurrentRequest().weighting).
   std::optional<Weighting> CurrentWeighting() const;
 
   // Checks the change (known kind, plate index in range, a well name, a

@@ -243,7 +243,8 @@ class WorkbenchTest : public QObject {
     QCOMPARE(loaded->request.exclusions, saved->request.exclusions);
     QCOMPARE(loaded->request.windows, saved->request.windows);
     QCOMPARE(loaded->request.model, std::string("michaelis-menten"));
-    QCOMPARE(loaded->settings.fit.weighting, Weighting::kRelative);
+    QVERIFY(loaded->request.weighting == Weighting::kRelative);
+    QCOMPARE(loaded->kinetics.options.weighting, Weighting::kRelative);
     QVERIFY(loaded->request.interval_method == IntervalMethod::kProfile);
     for (const char* name : {"Vmax", "Km"}) {
       const double expected = Parameter(*saved, name);

@@ -380,7 +380,8 @@ TEST_F(RebuildTest, LoadRecomputesEveryNumberWithTheRecordedChanges) {
   EXPECT_TRUE(rebuilt.warnings.empty()) << rebuilt.warnings.front();
   EXPECT_TRUE(rebuilt.integrity.intact);
   const Analysis& a = rebuilt.analysis;
-  EXPECT_EQ(a.settings.fit.weighting, Weighting::kRelative);
+  EXPECT_EQ(a.request.weighting, Weighting::kRelative);
+  EXPECT_EQ(a.kinetics.options.weighting, Weighting::kRelative);
   ASSERT_EQ(a.plate_rates.size(), 1u);
   const WellRate& a02 = a.plate_rates[0].wells[1];
   ASSERT_EQ(a02.name, "A02");
