@@ -3,6 +3,7 @@
 
 #include <QString>
 #include <cmath>
+#include <string>
 
 #include "fitting/plate_rates.h"
 
@@ -26,6 +27,19 @@ inline QString DescribeWell(const WellRate& w) {
 inline QString DescribeRate(const WellRate& w) {
   if (!w.HasRate()) return "no rate: " + QString::fromStdString(w.estimate.message);
   return FormatValue(w.rate_uM_per_min) + " ± " + FormatValue(w.se_uM_per_min, 2) + " µM/min";
+}
+
+// A unit as people read it: the files keep ASCII ("uM/min", "1/(M*s)"), the
+// window writes "µM/min", "M⁻¹·s⁻¹", "s⁻¹".
+inline QString DisplayUnit(const std::string& unit) {
+  if (unit == "1/s") return QStringLiteral("s⁻¹");
+  if (unit == "1/(M*s)") return QStringLiteral("M⁻¹·s⁻¹");
+  if (unit == "dimensionless") return QStringLiteral("—");
+  QString text = QString::fromStdString(unit);
+  if (text.startsWith(QLatin1String("uM")) || text.startsWith(QLatin1String("log10(uM"))) {
+    text.replace(QLatin1String("uM"), QStringLiteral("µM"));
+  }
+  return text;
 }
 
 }  // namespace ratewell::gui

@@ -216,7 +216,7 @@ void SaturationPanel::fillTable() {
     const QStringList cells = {
         QString::fromStdString(p.name),
         has_value ? FormatValue(p.value, 5) : QString("not determined"),
-        QString::fromStdString(p.unit),
+        DisplayUnit(p.unit),
         p.se_determined ? FormatValue(p.se, 3) : QString("not determined"),
         IntervalText(p),
         NoteText(p)};
