@@ -138,6 +138,36 @@ TEST(Analyze, WritesATidyParameterTableWithOneRowPerModelAndParameter) {
   EXPECT_NE(r.out.find("substrate-inhibition preferred"), std::string::npos) << r.out;
 }
 
+TEST(Analyze, FitsReplicatePlatesOfOneExperimentTogether) {
+  // The lot-release plate exported twice (CSV and .xlsx): two plates of one
+  // design, every sample well a point of one fit.
+  const fs::path demo = testing::DemoFolder() / "kn2-lot-release";
+  const fs::path out = fs::temp_directory_path() / "ratewell-analyze-test-two-plates";
+  fs::remove_all(out);
+  const Outcome r = RunCli({"analyze", (demo / "kn2-2611a_long.csv").string(),
+                            (demo / "kn2-2611a_long.xlsx").string(), "--layout",
+                            (demo / "layout.csv").string(), "--assay",
+                            (demo / "ASSAY.json").string(), "--out", out.string(), "--outputs",
+                            "json", "--ci", "asymptotic"});
+  ASSERT_LE(r.status, kExitNeedsReview) << r.err;
+  std::ifstream in(out / "results.json");
+  const nlohmann::json j = nlohmann::json::parse(in);
+  int plates = 0;
+  for (const auto& input : j["inputs"]) {
+    if (input["kind"] == "plate") ++plates;
+  }
+  EXPECT_EQ(plates, 2);
+  int used = 0;
+  for (const auto& w : j["wells"]) {
+    if (w["kinetic_use"].get<bool>()) ++used;
+  }
+  // 24 sample wells with a rate on each plate (D01 saturates on both).
+  EXPECT_EQ(used, 48);
+  EXPECT_EQ(j["model_choice"]["points"], 48);
+  for (const auto& fit : j["fits"]) EXPECT_EQ(fit["n"], 48);
+  fs::remove_all(out);
+}
+
 TEST(Analyze, RejectsAnUnknownModelOrIntervalMethodWithStatusTwo) {
   const fs::path folder = CopyExperiment("bad-model");
   Outcome r = RunCli({"analyze", (folder / "mut7_wide.txt").string(), "--layout",
