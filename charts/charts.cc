@@ -175,13 +175,16 @@ QChart* MakeTraceChart(const Plate& plate, const WellRate& well, const TraceChar
 
   const double marker = compact ? 2.6 : 6.0;
   if (has_window) {
-    auto* upper = new QLineSeries();
-    auto* lower = new QLineSeries();
+    // QAreaSeries does not own its edge series: parent them to it.
+    auto* band = new QAreaSeries();
+    auto* upper = new QLineSeries(band);
+    auto* lower = new QLineSeries(band);
     upper->append(e.window_start_min, y_axis->max());
     upper->append(e.window_end_min, y_axis->max());
     lower->append(e.window_start_min, y_axis->min());
     lower->append(e.window_end_min, y_axis->min());
-    auto* band = new QAreaSeries(upper, lower);
+    band->setUpperSeries(upper);
+    band->setLowerSeries(lower);
     band->setName(QString::fromLatin1(kTraceWindowSeries));
     band->setBrush(QColor::fromRgba(kWindowShadeColour));
     band->setPen(Qt::NoPen);

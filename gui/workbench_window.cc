@@ -111,7 +111,15 @@ WorkbenchWindow::WorkbenchWindow(QWidget* parent) : QMainWindow(parent) {
   refreshTitle();
 }
 
-WorkbenchWindow::~WorkbenchWindow() = default;
+WorkbenchWindow::~WorkbenchWindow() {
+  // The session (a child) is destroyed after this object has stopped being a
+  // WorkbenchWindow; its undo stack still signals from its destructor, so cut
+  // every connection to this window first.
+  if (session_ != nullptr) {
+    session_->undoStack()->disconnect(this);
+    session_->disconnect(this);
+  }
+}
 
 void WorkbenchWindow::buildDocks() {
   plate_panel_ = new PlatePanel;
