@@ -291,42 +291,35 @@ void AnalysisSession::setModel(const QString& model) {
   const std::string now = analysis_->request.model.empty() ? analysis_->settings.fit.model
                                                            : analysis_->request.model;
   const AnalysisRequest current = document_.CurrentRequest();
-  const std::string recorded = current.model.empty() ? now : current.model;
-  if (model.toStdString() == recorded) return;
-  ManualChange change;
-  change.kind = ChangeKind::kModel;
-  change.value = model.toStdString();
-  ManualChange back = change;
-  back.value = recorded;
-  back.reason = kUndoReason;
-  pushChange(change, back, "Model " + model);
+  pushSettingChange(ChangeKind::kModel, model.toStdString(),
+                    current.model.empty() ? now : current.model, "Model " + model);
 }
 
 void AnalysisSession::setIntervalMethod(const QString& method) {
   if (!has_document_ || !analysis_) return;
   const AnalysisRequest current = document_.CurrentRequest();
   const IntervalMethod now = current.interval_method.value_or(analysis_->settings.fit.interval);
-  if (method.toStdString() == IntervalMethodToString(now)) return;
-  ManualChange change;
-  change.kind = ChangeKind::kIntervalMethod;
-  change.value = method.toStdString();
-  ManualChange back = change;
-  back.value = IntervalMethodToString(now);
-  back.reason = kUndoReason;
-  pushChange(change, back, "Intervals " + method);
+  pushSettingChange(ChangeKind::kIntervalMethod, method.toStdString(), IntervalMethodToString(now),
+                    "Intervals " + method);
 }
 
 void AnalysisSession::setWeighting(const QString& weighting) {
   if (!has_document_ || !analysis_) return;
   const Weighting now = analysis_->request.weighting.value_or(analysis_->settings.fit.weighting);
-  if (weighting.toStdString() == WeightingToString(now)) return;
+  pushSettingChange(ChangeKind::kWeighting, weighting.toStdString(), WeightingToString(now),
+                    "Weighting " + weighting);
+}
+
+void AnalysisSession::pushSettingChange(ChangeKind kind, const std::string& value,
+                                        const std::string& now, const QString& text) {
+  if (value == now) return;
   ManualChange change;
-  change.kind = ChangeKind::kWeighting;
-  change.value = weighting.toStdString();
+  change.kind = kind;
+  change.value = value;
   ManualChange back = change;
-  back.value = WeightingToString(now);
+  back.value = now;
   back.reason = kUndoReason;
-  pushChange(change, back, "Weighting " + weighting);
+  pushChange(change, back, text);
 }
 
 void AnalysisSession::applyRecorded(const ManualChange& change) {

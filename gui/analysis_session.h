@@ -111,6 +111,10 @@ class AnalysisSession : public QObject {
   void deliver(std::shared_ptr<const Analysis> analysis, const QString& error);
   void markModified();
   void pushChange(const ManualChange& forward, const ManualChange& inverse, const QString& text);
+  // A fit setting (model, interval method, weighting): from `now` to
+  // `value`, undone by going back to `now`; nothing when they are equal.
+  void pushSettingChange(ChangeKind kind, const std::string& value, const std::string& now,
+                         const QString& text);
   void resetForNewDocument();
 
   class Worker;
