@@ -10,17 +10,12 @@
 
 #include <gtest/gtest.h>
 
+#include "tests/fitting/kinetic_test_util.h"
+
 namespace ratewell {
 namespace {
 
-// One observation (replicates are separate points).
-KineticObservation Point(double substrate_uM, double inhibitor_uM, double rate) {
-  KineticObservation p;
-  p.substrate_uM = substrate_uM;
-  p.inhibitor_uM = inhibitor_uM;
-  p.rate = rate;
-  return p;
-}
+using testing::Point;
 
 // Closed forms evaluated in double: agreement to a few ulps.
 constexpr double kClosedFormTolerance = 1e-13;
