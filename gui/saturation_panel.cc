@@ -214,7 +214,7 @@ void SaturationPanel::fillTable() {
     table_->insertRow(row);
     const bool has_value = std::isfinite(p.value);
     const QStringList cells = {
-        QString::fromStdString(p.name),
+        QString::fromStdString(p.name).replace(QLatin1Char('_'), QLatin1Char(' ')),
         has_value ? FormatValue(p.value, 5) : QString("not determined"),
         DisplayUnit(p.unit),
         p.se_determined ? FormatValue(p.se, 3) : QString("not determined"),

@@ -260,7 +260,9 @@ void FlowKineticsSection(PageFlow* flow, const ReportContext& context) {
         if (p.fixed) notes.push_back(QStringLiteral("fixed"));
         if (p.at_bound) notes.push_back(QStringLiteral("at a bound"));
         if (!p.ci.note.empty()) notes.push_back(Q(p.ci.note));
-        rows.push_back({Q(p.name), FormatValue4(p.value), DisplayUnit(p.unit),
+        // "specific_activity" is the key in the files; people read words.
+        rows.push_back({Q(p.name).replace(QLatin1Char('_'), QLatin1Char(' ')), FormatValue4(p.value),
+                        DisplayUnit(p.unit),
                         p.se_determined ? FormatValue4(p.se) : QStringLiteral("not determined: ") + Q(p.se_reason),
                         FormatInterval(p.ci), Q(IntervalMethodToString(p.ci.method)),
                         notes.join(QStringLiteral("; "))});
